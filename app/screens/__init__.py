@@ -1,0 +1,1 @@
+"""One module per screen, each with its ``.kv`` file beside it."""
