@@ -14,13 +14,11 @@ plain dicts; their keys are documented on each method and stay stable.
 from __future__ import annotations
 
 import json
-import math
 import os
 import sqlite3
 import uuid as uuidlib
 from collections.abc import Iterator
 from contextlib import contextmanager
-from datetime import UTC, date, datetime
 from pathlib import Path
 from typing import Any
 
@@ -29,114 +27,29 @@ import sqlite_utils
 from core import reduction
 from core.errors import SurveyError
 from core.store_schema import LATEST, migrate, schema_version
+from core.store_values import (
+    METHODS,
+    SECTION_FIELDS,
+    STATION_FIELDS,
+    TEXT_LIMIT,
+    VISIT_FIELDS,
+    StoreError,
+    canonical_json,
+    choice,
+    coordinates,
+    elevations,
+    iso_date,
+    new_uuid,
+    now,
+    number,
+    replay,
+    text,
+)
+
+__all__ = ["Store", "StoreError", "DEMO_PATH", "METHODS"]
 
 DEMO_PATH = Path(__file__).resolve().parent.parent / "demo_data" / "tessaly_creek.json"
 """The invented Tessaly Creek survey loaded by :meth:`Store.load_demo`."""
-
-METHODS = ("line", "rod")
-"""Ways of reading the bed: level line and plumb, or level and rod."""
-
-TEXT_LIMIT = 10_000
-"""Longest note, name or reason accepted (characters)."""
-
-SECTION_FIELDS = (
-    "name",
-    "left_stake",
-    "right_stake",
-    "origin",
-    "benchmark_name",
-    "benchmark_elevation",
-    "benchmark_assumed",
-    "left_coordinates",
-    "right_coordinates",
-)
-VISIT_FIELDS = (
-    "date",
-    "crew",
-    "unit",
-    "method",
-    "line_left",
-    "line_right",
-    "line_check",
-    "stake_distance",
-    "backsight",
-    "notes",
-    "settings",
-    "planned_stations",
-)
-STATION_FIELDS = ("station", "reading", "code", "note")
-
-
-class StoreError(SurveyError):
-    """A store operation that cannot be done as asked (unknown record, bad value, foreign file)."""
-
-
-def now() -> str:
-    """The current time as ISO 8601 UTC with microseconds."""
-    return datetime.now(UTC).isoformat(timespec="microseconds")
-
-
-def new_uuid() -> str:
-    """A fresh random UUID (text form)."""
-    return str(uuidlib.uuid4())
-
-
-def _number(value: Any, what: str, optional: bool = False) -> float | None:
-    """``value`` as a finite float (survey unit), or None when optional; else StoreError."""
-    if value is None and optional:
-        return None
-    if isinstance(value, bool):
-        raise StoreError(f"{what} must be a number, not {value!r}")
-    try:
-        number = float(value)
-    except (TypeError, ValueError):
-        raise StoreError(f"{what} must be a number, not {value!r}") from None
-    if not math.isfinite(number):
-        raise StoreError(f"{what} must be a finite number, not {value!r}")
-    return number
-
-
-def _text(value: Any, what: str) -> str:
-    """``value`` as a string of at most TEXT_LIMIT characters; else StoreError."""
-    if value is None:
-        return ""
-    if not isinstance(value, str):
-        raise StoreError(f"{what} must be text, not {value!r}")
-    if len(value) > TEXT_LIMIT:
-        raise StoreError(f"{what} is longer than {TEXT_LIMIT} characters; shorten it")
-    return value
-
-
-def _choice(value: Any, allowed: tuple[str, ...], what: str) -> str:
-    if value not in allowed:
-        raise StoreError(f"{what} must be one of {', '.join(allowed)}; got {value!r}")
-    return value
-
-
-def _iso_date(value: Any) -> str:
-    try:
-        return date.fromisoformat(str(value)).isoformat()
-    except ValueError:
-        raise StoreError(f"date {value!r} is not a date like 2026-04-14") from None
-
-
-def _coordinates(value: Any, what: str) -> tuple[float | None, float | None]:
-    """(lon, lat) in degrees, or (None, None); else StoreError."""
-    if value is None:
-        return None, None
-    try:
-        lon, lat = value
-    except (TypeError, ValueError):
-        raise StoreError(f"{what} must be (longitude, latitude) or empty") from None
-    lon, lat = _number(lon, f"{what} longitude"), _number(lat, f"{what} latitude")
-    if not (-180 <= lon <= 180 and -90 <= lat <= 90):
-        raise StoreError(f"{what} ({lon}, {lat}) is not a longitude/latitude in degrees")
-    return lon, lat
-
-
-def _json(value: Any) -> str:
-    """Canonical JSON text (sorted keys, no spaces) so equal values give equal text."""
-    return json.dumps(value, sort_keys=True, separators=(",", ":"), allow_nan=False)
 
 
 class Store:
@@ -228,11 +141,11 @@ class Store:
     def _device_id(self, wanted: str | None) -> str:
         row = self.conn.execute("SELECT value FROM meta WHERE key = 'device_id'").fetchone()
         if row is None:
-            device = _text(wanted, "device id") or f"dev-{uuidlib.uuid4().hex[:12]}"
+            device = text(wanted, "device id") or f"dev-{uuidlib.uuid4().hex[:12]}"
             with self.transaction():
                 self.conn.execute("INSERT INTO meta (key, value) VALUES ('device_id', ?)", [device])
             return device
-        return _text(wanted, "device id") or row[0]
+        return text(wanted, "device id") or row[0]
 
     # -- SQL helpers --------------------------------------------------------------------------
     @contextmanager
@@ -261,7 +174,7 @@ class Store:
     @contextmanager
     def as_device(self, device: str) -> Iterator[Store]:
         """Stamp records written inside the block with ``device`` (demo data, imports)."""
-        saved, self._device = self._device, _text(device, "device id") or self.device_id
+        saved, self._device = self._device, text(device, "device id") or self.device_id
         try:
             yield self
         finally:
@@ -312,8 +225,8 @@ class Store:
                 "uuid": new_uuid(),
                 "record_table": table,
                 "record_uuid": uuid,
-                "before": _json({k: row[k] for k in changed}),
-                "after": _json(changed),
+                "before": canonical_json({k: row[k] for k in changed}),
+                "after": canonical_json(changed),
                 "created": stamp,
                 "device": self._device,
             },
@@ -322,12 +235,12 @@ class Store:
     # -- sites and sections -------------------------------------------------------------------
     def create_site(self, name: str, stream: str = "", description: str = "") -> dict:
         """Add a site; returns {uuid, name, stream, description, created, modified, device}."""
-        if not _text(name, "site name").strip():
+        if not text(name, "site name").strip():
             raise StoreError("a site needs a name")
         record = self._stamped(
             name=name.strip(),
-            stream=_text(stream, "stream"),
-            description=_text(description, "description"),
+            stream=text(stream, "stream"),
+            description=text(description, "description"),
         )
         with self.transaction():
             self._insert("sites", record)
@@ -344,18 +257,18 @@ class Store:
         columns: dict[str, Any] = {}
         for key, value in fields.items():
             if key == "origin":
-                columns[key] = _choice(value, ("left", "right"), "origin")
+                columns[key] = choice(value, ("left", "right"), "origin")
             elif key == "benchmark_elevation":
-                columns[key] = _number(value, "benchmark elevation", optional=True)
+                columns[key] = number(value, "benchmark elevation", optional=True)
             elif key == "benchmark_assumed":
                 columns[key] = int(bool(value))
             elif key.endswith("_coordinates"):
                 side = key.split("_")[0]
-                columns[f"{side}_lon"], columns[f"{side}_lat"] = _coordinates(
+                columns[f"{side}_lon"], columns[f"{side}_lat"] = coordinates(
                     value, f"{side} stake coordinates"
                 )
             else:
-                columns[key] = _text(value, key.replace("_", " ")).strip()
+                columns[key] = text(value, key.replace("_", " ")).strip()
         if "name" in columns and not columns["name"]:
             raise StoreError("a section needs a name")
         return columns
@@ -450,28 +363,28 @@ class Store:
         columns: dict[str, Any] = {}
         for key, value in fields.items():
             if key == "date":
-                columns[key] = _iso_date(value)
+                columns[key] = iso_date(value)
             elif key == "crew":
                 names = [value] if isinstance(value, str) else list(value or ())
-                columns[key] = _json([_text(n, "crew name").strip() for n in names])
+                columns[key] = canonical_json([text(n, "crew name").strip() for n in names])
             elif key == "unit":
                 try:
                     columns[key] = reduction.check_unit(value)
                 except SurveyError as exc:
                     raise StoreError(str(exc)) from None
             elif key == "method":
-                columns[key] = _choice(value, METHODS, "method")
+                columns[key] = choice(value, METHODS, "method")
             elif key == "notes":
-                columns[key] = _text(value, "notes")
+                columns[key] = text(value, "notes")
             elif key == "settings":
-                if not isinstance(value, dict) or len(_json(value)) > TEXT_LIMIT:
+                if not isinstance(value, dict) or len(canonical_json(value)) > TEXT_LIMIT:
                     raise StoreError("visit settings must be a small JSON object")
-                columns[key] = _json(value)
+                columns[key] = canonical_json(value)
             elif key == "planned_stations":
-                planned = [_number(s, "planned station") for s in value or ()]
-                columns["planned"] = _json(planned)
+                planned = [number(s, "planned station") for s in value or ()]
+                columns["planned"] = canonical_json(planned)
             else:
-                columns[key] = _number(value, key.replace("_", " "), optional=True)
+                columns[key] = number(value, key.replace("_", " "), optional=True)
         if (columns.get("stake_distance") or 1) <= 0:
             raise StoreError("the distance between the stakes must be positive")
         return columns
@@ -619,8 +532,8 @@ class Store:
         self._get("visits", visit_uuid, "visit")
         record = self._stamped(
             visit_uuid=visit_uuid,
-            elevation=_number(elevation, "water level"),
-            time=_text(time, "time") or now(),
+            elevation=number(elevation, "water level"),
+            time=text(time, "time") or now(),
         )
         with self.transaction():
             self._insert("water_levels", record)
@@ -630,12 +543,12 @@ class Store:
         """Record why a field-check finding is accepted; returns {uuid, visit_uuid, kind,
         station (survey unit or None), reason, created, modified, device}."""
         self._get("visits", visit_uuid, "visit")
-        if not _text(reason, "reason").strip():
+        if not text(reason, "reason").strip():
             raise StoreError("an override needs a written reason")
         record = self._stamped(
             visit_uuid=visit_uuid,
-            kind=_text(kind, "finding kind"),
-            station=_number(station, "station", optional=True),
+            kind=text(kind, "finding kind"),
+            station=number(station, "station", optional=True),
             reason=reason.strip(),
         )
         with self.transaction():
@@ -655,30 +568,6 @@ class Store:
         FROM visits v JOIN sections s ON s.uuid = v.section_uuid WHERE v.uuid = ?
     """
 
-    @staticmethod
-    def _elevations(datum: dict, stations: list[float], readings: list[float]) -> list:
-        """Ground elevations (survey unit) of readings, from the visit's line or HI; None where
-        the visit does not yet say enough (no line heights, no backsight)."""
-        if not readings:
-            return []
-        if datum["method"] == "rod":
-            if datum["backsight"] is None:
-                return [None] * len(readings)
-            benchmark = datum["benchmark_elevation"]
-            benchmark = reduction.ASSUMED_DATUM if benchmark is None else benchmark
-            return reduction.bed_from_rod(benchmark, datum["backsight"], readings).tolist()
-        left, right = datum["line_left"], datum["line_right"]
-        if left is None and right is None:
-            return [None] * len(readings)
-        left, right = (right, right) if left is None else (left, left if right is None else right)
-        distance = datum["stake_distance"]
-        if left == right or distance is None:
-            line = (left + right) / 2.0
-        else:
-            at_left, at_right = (0.0, distance) if datum["origin"] == "left" else (distance, 0.0)
-            line = reduction.line_elevation(stations, at_left, left, at_right, right)
-        return reduction.bed_from_line(readings, line).tolist()
-
     def _version_dict(self, row: dict, first: dict, datum: dict | None) -> dict:
         out = {
             "uuid": row["station_uuid"],
@@ -696,7 +585,7 @@ class Store:
             "device": row["device"],
         }
         if datum is not None:
-            out["elevation"] = self._elevations(datum, [row["station"]], [row["reading"]])[0]
+            out["elevation"] = elevations(datum, [row["station"]], [row["reading"]])[0]
         return out
 
     def save_station(
@@ -710,10 +599,10 @@ class Store:
         device}; ``elevation`` is line - reading (or HI - foresight), None until known.
         """
         values = {
-            "station": _number(station, "station"),
-            "reading": _number(reading, "reading"),
-            "code": _text(code, "feature code"),
-            "note": _text(note, "note"),
+            "station": number(station, "station"),
+            "reading": number(reading, "reading"),
+            "code": text(code, "feature code"),
+            "note": text(note, "note"),
         }
         stamp = now()
         row = {"uuid": new_uuid(), "station_uuid": new_uuid(), "visit_uuid": str(visit_uuid),
@@ -735,34 +624,18 @@ class Store:
             "SELECT * FROM station_versions WHERE visit_uuid = ? ORDER BY id", [visit_uuid]
         )
 
-    @staticmethod
-    def _replay(versions: list[dict]) -> tuple[dict[str, dict], dict[str, dict], set[str]]:
-        """(current version by station, first version by station, undone version uuids)."""
-        undone = {v["undoes"] for v in versions if v["action"] == "undo"}
-        first: dict[str, dict] = {}
-        current: dict[str, dict] = {}
-        for v in versions:
-            if v["action"] == "undo":
-                continue
-            first.setdefault(v["station_uuid"], v)
-            if v["uuid"] not in undone:
-                current[v["station_uuid"]] = v
-        return current, first, undone
-
     def stations(self, visit_uuid: str) -> list[dict]:
         """Current stations of a visit sorted by station, then entry order (so a vertical face
         keeps its two readings in the order read); dicts as :meth:`save_station`."""
         datum = self._row(self._REDUCE_SQL, [str(visit_uuid)])
         if datum is None:
             raise StoreError(f"no visit with id {visit_uuid!r} in this store")
-        current, first, _ = self._replay(self._versions(visit_uuid))
+        current, first, _ = replay(self._versions(visit_uuid))
         live = [v for v in current.values() if v["action"] != "remove"]
         live.sort(key=lambda v: (v["station"], v["seq"]))
         out = [self._version_dict(v, first[v["station_uuid"]], None) for v in live]
-        elevations = self._elevations(
-            datum, [v["station"] for v in live], [v["reading"] for v in live]
-        )
-        for record, elevation in zip(out, elevations, strict=True):
+        heights = elevations(datum, [v["station"] for v in live], [v["reading"] for v in live])
+        for record, elevation in zip(out, heights, strict=True):
             record["elevation"] = elevation
         return out
 
@@ -775,7 +648,7 @@ class Store:
         versions = [
             v for v in self._versions(row["visit_uuid"]) if v["station_uuid"] == station_uuid
         ]
-        current, first, _ = self._replay(versions)
+        current, first, _ = replay(versions)
         if station_uuid not in current or current[station_uuid]["action"] == "remove":
             raise StoreError("that station was removed or undone; enter it again")
         return current[station_uuid], first[station_uuid]
@@ -784,7 +657,7 @@ class Store:
         unknown = set(changes) - set(STATION_FIELDS)
         if unknown:
             raise StoreError(f"cannot change {', '.join(sorted(unknown))} of a station")
-        checks = {"station": _number, "reading": _number, "code": _text, "note": _text}
+        checks = {"station": number, "reading": number, "code": text, "note": text}
         changes = {k: checks[k](v, k) for k, v in changes.items()}
         with self.transaction():
             old, first = self._current(station_uuid)
@@ -836,7 +709,7 @@ class Store:
         """
         with self.transaction():
             versions = self._versions(str(visit_uuid))
-            _, first, undone = self._replay(versions)
+            _, first, undone = replay(versions)
             target = next(
                 (
                     v
@@ -871,7 +744,7 @@ class Store:
     def set_setting(self, key: str, value: Any) -> None:
         """Set a device setting (unit, crew, precision, tolerances...) to a JSON value."""
         try:
-            text = _json(value)
+            value_json = canonical_json(value)
         except (TypeError, ValueError):
             raise StoreError(
                 f"setting {key!r} must be a JSON value (text, number, list...)"
@@ -881,7 +754,7 @@ class Store:
                 "INSERT INTO settings (key, value, modified) VALUES (?, ?, ?) "
                 "ON CONFLICT (key) DO UPDATE SET value = excluded.value, "
                 "modified = excluded.modified",
-                [_text(key, "setting name"), text, now()],
+                [text(key, "setting name"), value_json, now()],
             )
 
     # -- demo data ----------------------------------------------------------------------------
@@ -899,11 +772,11 @@ class Store:
             site_record = self.create_site(site["name"], site.get("stream", ""),
                                            site.get("description", ""))  # fmt: skip
             for spec in demo["sections"]:
-                coordinates = spec.get("stake_coordinates") or {}
+                stakes = spec.get("stake_coordinates") or {}
                 section = self.create_section(
                     site_record["uuid"], spec["name"], spec["left_stake"], spec["right_stake"],
                     spec.get("origin", "left"), benchmark["name"], benchmark["elevation"],
-                    coordinates.get("left"), coordinates.get("right"),
+                    stakes.get("left"), stakes.get("right"),
                     benchmark_assumed=benchmark.get("assumed", False),
                 )  # fmt: skip
                 for visit in spec["visits"]:
