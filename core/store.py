@@ -27,6 +27,7 @@ import sqlite_utils
 from core import reduction
 from core.errors import SurveyError
 from core.store_schema import LATEST, migrate, schema_version
+from core.store_sync import StoreSync
 from core.store_values import (
     METHODS,
     SECTION_FIELDS,
@@ -52,7 +53,7 @@ DEMO_PATH = Path(__file__).resolve().parent.parent / "demo_data" / "tessaly_cree
 """The invented Tessaly Creek survey loaded by :meth:`Store.load_demo`."""
 
 
-class Store:
+class Store(StoreSync):
     """A Stakeline store in one SQLite file; open with :meth:`open` or :meth:`memory`."""
 
     def __init__(self, db: sqlite_utils.Database, path: str | None, device_id: str | None):
