@@ -1,0 +1,84 @@
+"""Home: the sites and their cross-sections, last visit and status; start or continue a visit,
+create a new section, open the settings."""
+
+from __future__ import annotations
+
+import os
+
+from kivy.lang import Builder
+from kivy.properties import StringProperty
+from kivy.uix.boxlayout import BoxLayout
+
+from app.screens.base import BaseScreen
+
+
+class SectionRow(BoxLayout):
+    """One section in the home list; fires ``on_choose`` when its button is tapped."""
+
+    title = StringProperty("")
+    detail = StringProperty("")
+    button_text = StringProperty("")
+    __events__ = ("on_choose",)
+
+    def on_choose(self, *_args):
+        """Default handler: nothing (the home screen binds its own)."""
+
+
+Builder.load_file(os.path.join(os.path.dirname(__file__), "home.kv"))
+
+
+class HomeScreen(BaseScreen):
+    """The list of sections with a start/continue button each, and the new-section form."""
+
+    resume_text = StringProperty("")
+
+    def refresh(self) -> None:
+        """Rebuild the section list from the store."""
+        rows = self.service.overview()
+        box = self.ids.sections
+        box.clear_widgets()
+        for row in rows:
+            status = row["last_status"] or "no visits yet"
+            if row["open_visit"]:
+                status = "visit open"
+            item = SectionRow(
+                title=f"[b]{row['section']}[/b]  ·  {row['site']}",
+                detail=f"Last visit {row['last_date'] or '—'}  ·  {status}",
+                button_text="Continue visit" if row["open_visit"] else "Start visit",
+            )
+            item.bind(on_choose=lambda _w, r=row: self.choose(r))
+            box.add_widget(item)
+        if rows and not self.ids.site_name.text:
+            self.ids.site_name.text = rows[0]["site"]
+        resume = self.service.resume_point()
+        self.resume_text = ""
+        if resume:
+            visit = self.service.visit(resume[0])
+            where = "" if resume[1] is None else f" at station {resume[1]:g} {visit['unit']}"
+            self.resume_text = f"Continue {visit['section']} ({visit['date']}){where}"
+
+    def choose(self, row: dict) -> None:
+        """Continue the section's open visit, or start a new one."""
+        if row["open_visit"]:
+            self.app.open_visit(row["open_visit"], "readings")
+            return
+        visit = self.attempt(self.service.start_visit, row["section_uuid"])
+        if visit:
+            self.app.open_visit(visit, "stakes")
+
+    def resume(self) -> None:
+        """Go back to the visit and station that were open."""
+        resume = self.service.resume_point()
+        if resume:
+            self.app.visit_uuid = resume[0]
+            self.app.go("readings", station=resume[1])
+
+    def create_section(self) -> None:
+        """Create the typed section (and site), start a visit on it, go to the stakes."""
+        section = self.attempt(
+            self.service.create_section, self.ids.site_name.text, self.ids.section_name.text
+        )
+        if section:
+            self.ids.section_name.text = ""
+            visit = self.service.start_visit(section["uuid"])
+            self.app.open_visit(visit, "stakes")

@@ -1,0 +1,434 @@
+"""The thin service layer between the screens and the core: the only place screens reach the
+store, the geometry, the field checks and the package writer.
+
+Screens hold a :class:`FieldService` (``app.service``) and call one method per action; every
+method takes and returns plain values (dicts, lists, floats) in the visit's length unit.  Work that
+could take long (the field-check review, writing the package) runs on a :class:`Worker` thread and
+reports back on the Kivy clock, so the UI thread never waits on it.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import threading
+from datetime import date
+
+import numpy as np
+
+from core.errors import SurveyError
+from core.geometry import FIGURES, Section
+from core.reduction import ASSUMED_DATUM
+
+FEATURE_CODES = (
+    ("bank_top", "Bank top"),
+    ("toe", "Toe"),
+    ("water_edge", "Water's edge"),
+    ("deepest", "Deepest"),
+    ("bar", "Bar"),
+)
+"""Quick feature codes on the readings screen: (stored code, button text)."""
+
+DEFAULT_SETTINGS = {
+    "unit": "m",
+    "crew": [],
+    "precision": 0.001,
+    "line_tolerance": 0.005,
+    "min_wetted_stations": 20,
+    "outbox": "",
+}
+"""Device settings and their defaults (``precision`` and ``line_tolerance`` in the survey unit)."""
+
+POSITION_KEY = "field.position"
+"""Setting that remembers the open visit and the station being read, for resuming after a crash."""
+
+
+class ServiceError(SurveyError):
+    """A request from a screen that cannot be done; the message is shown to the crew as is."""
+
+
+def parse_number(text: str, what: str) -> float:
+    """The number typed in ``text`` (a decimal comma counts as a point), else ServiceError."""
+    cleaned = str(text).strip().replace(",", ".")
+    try:
+        value = float(cleaned)
+    except ValueError:
+        raise ServiceError(f"{what}: {text!r} is not a number; type digits and one point") from None
+    if not math.isfinite(value):
+        raise ServiceError(f"{what}: {text!r} is not a finite number")
+    return value
+
+
+def uniform_stations(distance: float, count: int, step_round: float = 0.05) -> list[float]:
+    """A uniform station plan from 0 to ``distance`` (survey unit) with about ``count`` stations.
+
+    The spacing ``distance / (count - 1)`` is rounded to a multiple of ``step_round`` (easy to
+    mark on a tape); the far stake is always the last station.  Returns stations in order.
+
+    >>> uniform_stations(10.0, 11)
+    [0.0, 1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0, 10.0]
+    >>> uniform_stations(9.3, 5)
+    [0.0, 2.3, 4.6, 6.9, 9.3]
+    """
+    if not (distance > 0 and math.isfinite(distance)):
+        raise ServiceError(f"distance between stakes {distance:g} must be a positive number")
+    if count < 2:
+        raise ServiceError(f"station count {count} is too small; plan at least 2 stations")
+    spacing = max(round(distance / (count - 1) / step_round) * step_round, step_round)
+    stations = np.arange(0.0, distance, spacing)
+    stations = stations[distance - stations >= 0.5 * spacing]
+    return [round(float(s), 6) for s in stations] + [round(float(distance), 6)]
+
+
+def next_station(plan: list[float], read: set[float], current: float | None) -> float | None:
+    """The station to read after ``current``: the next planned one not yet read, else the first
+    unread planned station, else ``None`` (every planned station has a reading)."""
+    unread = [s for s in sorted(plan) if s not in read]
+    if current is not None:
+        later = [s for s in unread if s > current]
+        if later:
+            return later[0]
+    return unread[0] if unread else None
+
+
+class Worker:
+    """Runs functions on a background thread and hands results back on the Kivy clock."""
+
+    def __init__(self):
+        self.pending = 0
+
+    def run(self, function, on_done, on_error=None) -> None:
+        """Call ``function()`` on a thread; then ``on_done(result)`` or ``on_error(exc)`` on the UI
+        thread."""
+        from kivy.clock import Clock
+
+        self.pending += 1
+
+        def job():
+            try:
+                result = function()
+            except Exception as exc:  # reported to the crew, never swallowed
+                Clock.schedule_once(lambda _dt, e=exc: self._finish(on_error, e), 0)
+            else:
+                Clock.schedule_once(lambda _dt: self._finish(on_done, result), 0)
+
+        threading.Thread(target=job, daemon=True).start()
+
+    def _finish(self, callback, value) -> None:
+        self.pending -= 1
+        if callback is not None:
+            callback(value)
+
+
+class FieldService:
+    """Everything the screens do with a visit, on one open store.
+
+    ``store`` is an open :class:`core.store.Store`; ``outbox`` the folder finished packages go to
+    when the settings do not name one.
+    """
+
+    def __init__(self, store, outbox: str = ""):
+        self.store = store
+        self.default_outbox = outbox
+        self.worker = Worker()
+
+    # --- settings ---------------------------------------------------------------------------
+    def settings(self) -> dict:
+        """Device settings with defaults filled in (see :data:`DEFAULT_SETTINGS`)."""
+        return {key: self.store.get_setting(key, value) for key, value in DEFAULT_SETTINGS.items()}
+
+    def save_settings(self, **values) -> dict:
+        """Store changed settings after checking them; returns all settings."""
+        for key, value in values.items():
+            if key not in DEFAULT_SETTINGS:
+                raise ServiceError(f"unknown setting {key!r}")
+            if key == "unit" and value not in ("m", "ft"):
+                raise ServiceError(f"length unit {value!r} is not m or ft")
+            if key in ("precision", "line_tolerance") and not (float(value) > 0):
+                raise ServiceError(f"{key.replace('_', ' ')} must be greater than zero")
+            if key == "min_wetted_stations" and int(value) < 2:
+                raise ServiceError("minimum stations across the water must be at least 2")
+            self.store.set_setting(key, value)
+        return self.settings()
+
+    def outbox(self) -> str:
+        """Folder for finished visit packages (created when first used)."""
+        return self.settings()["outbox"] or self.default_outbox
+
+    # --- home -------------------------------------------------------------------------------
+    def overview(self) -> list[dict]:
+        """Sections with their site, last visit date and status, and the open visit if any."""
+        open_visits: dict[str, str] = {}
+        for visit in self.store.visits():
+            if not visit["finished"]:
+                open_visits[visit["section_uuid"]] = visit["uuid"]
+        rows = []
+        for section in self.store.sections():
+            rows.append(
+                {
+                    "section_uuid": section["uuid"],
+                    "site": section["site"],
+                    "section": section["name"],
+                    "last_date": section.get("last_visit_date") or "",
+                    "last_status": section.get("last_visit_status") or "",
+                    "open_visit": open_visits.get(section["uuid"]),
+                }
+            )
+        return rows
+
+    def create_section(self, site_name: str, section_name: str) -> dict:
+        """A new section on the named site (created when new); returns the section dict."""
+        site_name, section_name = site_name.strip(), section_name.strip()
+        if not site_name or not section_name:
+            raise ServiceError("type a site name and a section name")
+        site = next((s for s in self.store.sites() if s["name"] == site_name), None)
+        if site is None:
+            site = self.store.create_site(site_name)
+        return self.store.create_section(site["uuid"], section_name)
+
+    def start_visit(self, section_uuid: str, today: str | None = None) -> str:
+        """Open a new visit on a section with the device's unit and crew; returns its uuid.
+
+        Line heights and stake distance are carried over from the section's last visit (same
+        stakes, same benchmark); the crew checks them on the stakes screen.
+        """
+        settings = self.settings()
+        earlier = self.store.visits(section_uuid)
+        carried = {}
+        if earlier:
+            last = earlier[-1]
+            carried = {k: last[k] for k in ("line_left", "line_right", "stake_distance")}
+        visit = self.store.start_visit(
+            section_uuid,
+            today or date.today().isoformat(),
+            crew=tuple(settings["crew"]),
+            unit=earlier[-1]["unit"] if earlier else settings["unit"],
+            line_left=carried.get("line_left"),
+            line_right=carried.get("line_right"),
+        )
+        if carried.get("stake_distance") is not None:
+            self.store.update_visit(visit["uuid"], stake_distance=carried["stake_distance"])
+        self.remember_position(visit["uuid"], None)
+        return visit["uuid"]
+
+    def visit(self, visit_uuid: str) -> dict:
+        """The visit record (see :meth:`core.store.Store.visit`)."""
+        return self.store.visit(visit_uuid)
+
+    def section_of(self, visit_uuid: str) -> dict:
+        """The section record of a visit."""
+        return self.store.section(self.store.visit(visit_uuid)["section_uuid"])
+
+    # --- resuming ---------------------------------------------------------------------------
+    def remember_position(self, visit_uuid: str, station: float | None) -> None:
+        """Remember the open visit and the station being read (for resuming after a crash)."""
+        self.store.set_setting(POSITION_KEY, {"visit": visit_uuid, "station": station})
+
+    def resume_point(self) -> tuple[str, float | None] | None:
+        """``(visit_uuid, station)`` of the unfinished visit to resume, or ``None``."""
+        position = self.store.get_setting(POSITION_KEY)
+        if not position or not position.get("visit"):
+            return None
+        try:
+            visit = self.store.visit(position["visit"])
+        except SurveyError:
+            return None
+        if visit["finished"]:
+            return None
+        return visit["uuid"], position.get("station")
+
+    # --- stakes -----------------------------------------------------------------------------
+    def stakes(self, visit_uuid: str) -> dict:
+        """Everything on the stakes screen: stake names, origin, benchmark, line heights,
+        line check, stake distance and coordinates."""
+        visit = self.store.visit(visit_uuid)
+        section = self.store.section(visit["section_uuid"])
+        keys = ("left_stake", "right_stake", "origin", "benchmark_name", "benchmark_elevation")
+        out = {k: section[k] for k in keys}
+        out.update({k: visit[k] for k in ("line_left", "line_right", "line_check", "unit")})
+        out["stake_distance"] = visit["stake_distance"]
+        out["left_coordinates"] = section["left_coordinates"]
+        out["right_coordinates"] = section["right_coordinates"]
+        out["section"], out["site"] = section["name"], section["site"]
+        return out
+
+    def save_stakes(self, visit_uuid: str, **fields) -> str:
+        """Save the stakes screen; returns the line-level check verdict in plain words."""
+        visit = self.store.visit(visit_uuid)
+        section_keys = {
+            "left_stake",
+            "right_stake",
+            "origin",
+            "benchmark_name",
+            "benchmark_elevation",
+            "left_coordinates",
+            "right_coordinates",
+        }
+        section_fields = {k: v for k, v in fields.items() if k in section_keys}
+        visit_fields = {k: v for k, v in fields.items() if k not in section_keys}
+        for side in ("left_stake", "right_stake"):
+            if side in section_fields and not str(section_fields[side]).strip():
+                raise ServiceError(f"the {side.replace('_', ' ')} needs a name")
+        if section_fields:
+            self.store.update_section(visit["section_uuid"], **section_fields)
+        if visit_fields:
+            self.store.update_visit(visit_uuid, **visit_fields)
+        return self.line_check(visit_uuid)
+
+    def line_check(self, visit_uuid: str) -> str:
+        """The line-level check in words: how far the line heights and the check shot agree."""
+        visit = self.store.visit(visit_uuid)
+        unit, tolerance = visit["unit"], float(self.settings()["line_tolerance"])
+        left, right, check = visit["line_left"], visit["line_right"], visit["line_check"]
+        if left is None or right is None:
+            return f"Type the line elevation at both stakes (or assume {ASSUMED_DATUM:.3f})."
+        worst = abs(left - right)
+        if check is not None:
+            worst = max(worst, abs(check - (left + right) / 2))
+        verdict = "within" if worst <= tolerance else "OUTSIDE"
+        return (
+            f"Line check: the heights differ by up to {worst:.3f} {unit}, "
+            f"{verdict} the tolerance of {tolerance:.3f} {unit}."
+        )
+
+    # --- spacing ----------------------------------------------------------------------------
+    def plan(self, visit_uuid: str) -> list[float]:
+        """The planned stations of a visit (survey unit), in order."""
+        return sorted(self.store.planned_stations(visit_uuid))
+
+    def save_plan(self, visit_uuid: str, stations) -> list[float]:
+        """Replace the plan with these stations (duplicates dropped, sorted); returns it."""
+        plan = sorted({round(float(s), 6) for s in stations})
+        if any(s < 0 for s in plan):
+            raise ServiceError("stations are tape distances and cannot be negative")
+        self.store.set_planned_stations(visit_uuid, plan)
+        return plan
+
+    def add_to_plan(self, visit_uuid: str, station: float) -> list[float]:
+        """Insert one station into the plan (a slope break, a water's edge...); returns the plan."""
+        return self.save_plan(visit_uuid, [*self.plan(visit_uuid), station])
+
+    def remove_from_plan(self, visit_uuid: str, station: float) -> list[float]:
+        """Drop one planned station that has no reading yet; returns the plan."""
+        if any(r["station"] == station for r in self.readings(visit_uuid)):
+            raise ServiceError(f"station {station:g} has a reading; remove the reading first")
+        return self.save_plan(visit_uuid, [s for s in self.plan(visit_uuid) if s != station])
+
+    # --- readings ---------------------------------------------------------------------------
+    def readings(self, visit_uuid: str) -> list[dict]:
+        """Current readings of the visit, sorted by station (store dicts)."""
+        return [r for r in self.store.stations(visit_uuid) if not r.get("removed")]
+
+    def reading_at(self, visit_uuid: str, station: float) -> dict | None:
+        """The current reading at exactly this station, or ``None``."""
+        return next((r for r in self.readings(visit_uuid) if r["station"] == station), None)
+
+    def save_reading(
+        self, visit_uuid: str, station: float, text: str, code: str = "", note: str = ""
+    ) -> dict:
+        """Save (or correct) the reading typed at ``station``; committed before returning.
+
+        ``text`` is the reading as typed on the keypad (survey unit, measured down from the line).
+        A station that already has a reading gets a correction (the old value stays in history).
+        """
+        reading = parse_number(text, f"reading at station {station:g}")
+        if reading < 0:
+            raise ServiceError(
+                f"reading at station {station:g} is negative; the plumb reads down from the line"
+            )
+        existing = self.reading_at(visit_uuid, station)
+        if existing is None:
+            record = self.store.save_station(visit_uuid, station, reading, code=code, note=note)
+        else:
+            record = self.store.correct_station(existing["uuid"], reading=reading, code=code,
+                                                note=note)  # fmt: skip
+        if station not in self.plan(visit_uuid):
+            self.add_to_plan(visit_uuid, station)
+        return record
+
+    def remove_reading(self, visit_uuid: str, station: float) -> dict | None:
+        """Remove the reading at ``station`` (kept in history); returns the removed record."""
+        existing = self.reading_at(visit_uuid, station)
+        return None if existing is None else self.store.remove_station(existing["uuid"])
+
+    def undo(self, visit_uuid: str) -> dict | None:
+        """Undo the latest reading change of the visit; returns what was undone or ``None``."""
+        return self.store.undo(visit_uuid)
+
+    def next_station(self, visit_uuid: str, current: float | None) -> float | None:
+        """The station to read after ``current`` (see :func:`next_station`)."""
+        read = {r["station"] for r in self.readings(visit_uuid)}
+        return next_station(self.plan(visit_uuid), read, current)
+
+    # --- the section and its figures --------------------------------------------------------
+    def profile(self, visit_uuid: str) -> tuple[np.ndarray, np.ndarray]:
+        """Stations and ground elevations of the readings that have an elevation (survey unit)."""
+        rows = [r for r in self.readings(visit_uuid) if r.get("elevation") is not None]
+        stations = np.array([r["station"] for r in rows], dtype=float)
+        elevations = np.array([r["elevation"] for r in rows], dtype=float)
+        return stations, elevations
+
+    def section(self, visit_uuid: str) -> Section | None:
+        """The visit's ground as a :class:`core.geometry.Section`, or ``None`` with < 2 points."""
+        stations, elevations = self.profile(visit_uuid)
+        if stations.size < 2:
+            return None
+        return Section(stations, elevations)
+
+    @staticmethod
+    def figures(section: Section | None, level: float | None) -> dict:
+        """Wetted figures at ``level`` (survey unit; area unit²) as a dict keyed by
+        :data:`core.geometry.FIGURES` plus ``edges``; ``error`` holds a one-line message instead
+        when the level cannot be used (no section yet, or above a bank)."""
+        if section is None:
+            return {"error": "Read at least two stations to see the figures."}
+        if level is None:
+            return {"error": "Type or drag the water level to see the figures."}
+        try:
+            return section.at(float(level)).as_dict()
+        except SurveyError as exc:
+            return {"error": str(exc)}
+
+    def water_level(self, visit_uuid: str) -> float | None:
+        """The latest water level recorded on the visit (survey unit), or ``None``."""
+        levels = self.store.visit(visit_uuid)["water_levels"]
+        return float(levels[-1]["elevation"]) if levels else None
+
+    def record_water_level(self, visit_uuid: str, text: str) -> float:
+        """Record the water level typed (or dragged) now; returns it (survey unit)."""
+        level = parse_number(text, "water level")
+        self.store.add_water_level(visit_uuid, level)
+        return level
+
+
+FIGURE_NAMES = dict(
+    zip(
+        FIGURES,
+        (
+            "Area",
+            "Wetted perimeter",
+            "Top width",
+            "Hydraulic radius",
+            "Hydraulic depth",
+            "Deepest water",
+        ),
+        strict=True,
+    )
+)
+"""Plain names of the figures shown on the section screen."""
+
+
+def open_service(folder: str, demo: bool = True) -> FieldService:
+    """Open (or create) the device store ``stakeline.sqlite`` in ``folder`` and return a service.
+
+    The folder and its parents are created when missing.  On first start (a store with no sites)
+    the invented Tessaly Creek demo survey is loaded so the home screen has something to show.
+    Packages go to ``folder/outbox`` unless the settings name another folder.
+    """
+    from core.store import Store
+
+    os.makedirs(folder, exist_ok=True)
+    store = Store.open(os.path.join(folder, "stakeline.sqlite"))
+    if demo and not store.sites():
+        store.load_demo()
+    return FieldService(store, outbox=os.path.join(folder, "outbox"))

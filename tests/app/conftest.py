@@ -1,0 +1,170 @@
+"""Fixtures for the headless UI tests: one window for the whole session, a fresh app per test.
+
+Follows ../shared/KIVY-TESTING.md: the environment comes from tests/conftest.py; the window is
+created once at 1920x1280 (the offscreen surface does not grow later) and only resized between
+the landscape 1280x800 and portrait 800x1280 layouts; it is never closed; each app is stopped in
+teardown; NoTransition; ``Clock._max_fps = 0`` so frames do not sleep.
+"""
+
+from __future__ import annotations
+
+import os
+
+import pytest
+
+LANDSCAPE = (1280, 800)
+PORTRAIT = (800, 1280)
+LAPTOP = (1920, 1080)
+
+
+def _configure_kivy() -> None:
+    from kivy.config import Config
+
+    Config.set("graphics", "width", "1920")
+    Config.set("graphics", "height", "1280")
+    Config.set("kivy", "exit_on_escape", "0")
+    if Config.has_section("input"):
+        for option in Config.options("input"):
+            Config.remove_option("input", option)
+
+
+_configure_kivy()
+
+
+class Driver:
+    """Drives the running app the way a crew would: taps, keypad presses, physical keys."""
+
+    def __init__(self, app, window):
+        self.app = app
+        self.window = window
+
+    def frames(self, count: int = 2) -> None:
+        """Advance the event loop ``count`` frames."""
+        from kivy.base import EventLoop
+
+        for _ in range(count):
+            EventLoop.idle()
+
+    @property
+    def screen(self):
+        """The screen shown now."""
+        return self.app.manager.current_screen
+
+    def tap(self, widget) -> None:
+        """Touch down and up at the centre of ``widget`` (as a finger would)."""
+        from kivy.tests.common import UnitTestTouch
+
+        assert widget.get_root_window() is not None, f"{widget} is not on screen"
+        touch = UnitTestTouch(*widget.to_window(*widget.center))
+        touch.touch_down()
+        self.frames(1)
+        touch.touch_up()
+        self.frames(1)
+
+    def drag(self, widget, start, end, steps: int = 5) -> None:
+        """Drag one finger from ``start`` to ``end`` (window pixels) across ``widget``."""
+        from kivy.tests.common import UnitTestTouch
+
+        touch = UnitTestTouch(*start)
+        touch.touch_down()
+        for i in range(1, steps + 1):
+            x = start[0] + (end[0] - start[0]) * i / steps
+            y = start[1] + (end[1] - start[1]) * i / steps
+            touch.touch_move(x, y)
+            self.frames(1)
+        touch.touch_up()
+        self.frames(1)
+
+    def keypad(self, text: str, screen=None) -> None:
+        """Tap the on-screen keypad keys for ``text`` (digits and '.')."""
+        screen = screen or self.screen
+        keys = {k.action: k for k in screen.ids.keypad.walk() if hasattr(k, "action")}
+        for ch in text:
+            self.tap(keys[ch])
+
+    def enter(self, screen=None) -> None:
+        """Tap the keypad's enter key."""
+        screen = screen or self.screen
+        keys = {k.action: k for k in screen.ids.keypad.walk() if hasattr(k, "action")}
+        self.tap(keys["enter"])
+
+    def key(self, key: int, codepoint: str | None = None) -> None:
+        """Press a physical key (as on a laptop)."""
+        self.window.dispatch("on_key_down", key, 0, codepoint, [])
+        self.window.dispatch("on_key_up", key, 0)
+        self.frames(1)
+
+    def type_text(self, text_input, text: str) -> None:
+        """Focus a TextInput and type into it."""
+        text_input.focus = True
+        self.frames(1)
+        for ch in text:
+            self.window.dispatch("on_textinput", ch)
+        text_input.focus = False
+        self.frames(1)
+
+    def wait(self, condition, limit: int = 400) -> None:
+        """Advance frames until ``condition()`` is true (background work reports on the clock)."""
+        for _ in range(limit):
+            if condition():
+                return
+            self.frames(1)
+        raise AssertionError("condition not met in time")
+
+    def resize(self, size) -> None:
+        """Resize the window and let the layout settle."""
+        self.window.size = size
+        self.frames(4)
+
+    def screenshot(self, name: str) -> None:
+        """When STAKELINE_SCREENSHOTS names a folder, save this screen in landscape and portrait."""
+        folder = os.environ.get("STAKELINE_SCREENSHOTS")
+        if not folder:
+            return
+        os.makedirs(folder, exist_ok=True)
+        before = tuple(self.window.size)
+        for label, size in (("landscape", LANDSCAPE), ("portrait", PORTRAIT)):
+            self.resize(size)
+            self.window.canvas.ask_update()
+            self.window.dispatch("on_draw")
+            self.window.screenshot(name=os.path.join(folder, f"{name}-{label}.png"))
+        self.resize(before)
+
+
+@pytest.fixture(scope="session")
+def window():
+    """The one Kivy window of the test session (never closed)."""
+    from kivy.clock import Clock
+    from kivy.core.window import Window
+    from kivy.metrics import dp
+
+    assert dp(10) > 0
+    Clock._max_fps = 0
+    Window.size = LANDSCAPE
+    return Window
+
+
+@pytest.fixture
+def data_dir(tmp_path):
+    """A fresh folder for the app's store and outbox."""
+    folder = tmp_path / "device"
+    folder.mkdir()
+    return str(folder)
+
+
+@pytest.fixture
+def ui(window, data_dir):
+    """The Stakeline app running on a fresh store (with the demo survey), driven by a Driver."""
+    from kivy.base import runTouchApp
+
+    from app.main import StakelineApp
+
+    window.size = LANDSCAPE
+    app = StakelineApp(data_dir=data_dir, animate=False)
+    app._run_prepare()
+    runTouchApp(embedded=True)
+    driver = Driver(app, window)
+    driver.frames(3)
+    yield driver
+    app.stop()
+    driver.frames(1)
