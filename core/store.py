@@ -682,7 +682,8 @@ class Store(StoreSync):
         """Every version of a station, oldest first: :meth:`save_station`'s keys (``modified``
         is when that version was written) plus ``undone`` (bool)."""
         versions = self._rows(
-            "SELECT * FROM station_versions WHERE station_uuid = ? ORDER BY id", [station_uuid]
+            "SELECT * FROM station_versions WHERE station_uuid = ? AND action != 'undo' ORDER BY id",
+            [station_uuid],
         )
         if not versions:
             raise StoreError(f"no station with id {station_uuid!r} in this store")
