@@ -59,6 +59,16 @@ def profile_difference(before_x, before_z, after_x, after_z):
     ``d = after - before`` at each panel end (unit); panels are open intervals between all
     stations of both lines.
     """
+    left, right, b0, b1, a0, a1 = profile_panels(before_x, before_z, after_x, after_z)
+    return left, right, a0 - b0, a1 - b1
+
+
+def profile_panels(before_x, before_z, after_x, after_z):
+    """Merged panels ``(left, right, before_left, before_right, after_left, after_right)``.
+
+    Ground elevations of both lines at the two ends of every panel between the stations of
+    either line, over the stations both cover (unit).
+    """
     bx, bz = np.asarray(before_x, dtype=float), np.asarray(before_z, dtype=float)
     ax, az = np.asarray(after_x, dtype=float), np.asarray(after_z, dtype=float)
     for x, z, name in ((bx, bz, "before"), (ax, az, "after")):
@@ -76,7 +86,7 @@ def profile_difference(before_x, before_z, after_x, after_z):
     left, right = knots[:-1], knots[1:]
     b0, b1 = _values(bx, bz, left, right)
     a0, a1 = _values(ax, az, left, right)
-    return left, right, a0 - b0, a1 - b1
+    return left, right, b0, b1, a0, a1
 
 
 def scour_fill(before_x, before_z, after_x, after_z) -> ScourFill:

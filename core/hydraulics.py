@@ -186,10 +186,13 @@ class CompoundSection:
         self.parts = self._build_parts()
 
     def names(self) -> list[str]:
-        """Subsection names, left to right."""
-        if len(self.n) == 3:
-            return list(SUBSECTION_NAMES)
-        return [f"part {i + 1}" for i in range(len(self.n))]
+        """Subsection names, left to right: overbanks either side of the main channel."""
+        main = int(np.argmin([piece.lowest for piece, _ in self.parts]))
+        left, right = main, len(self.n) - main - 1
+        names = [SUBSECTION_NAMES[0] + (f" {i + 1}" if left > 1 else "") for i in range(left)]
+        names.append(SUBSECTION_NAMES[1])
+        names += [SUBSECTION_NAMES[2] + (f" {i + 1}" if right > 1 else "") for i in range(right)]
+        return names
 
     def _build_parts(self) -> list[tuple[Section, list[float]]]:
         x = self.section.stations.copy()

@@ -299,3 +299,16 @@ def test_constants():
     lbf, ft3 = 4.4482216152605, 0.3048**3
     assert UNIT_WEIGHT["ft"] * lbf / ft3 == pytest.approx(UNIT_WEIGHT["m"], rel=2e-3)
     assert np.isfinite(list(MANNING_K.values())).all()
+
+
+def test_subsection_names():
+    section = two_stage()
+    assert CompoundSection(section, [20.0, 30.0], [0.05, 0.03, 0.05]).names() == [
+        "left overbank",
+        "main channel",
+        "right overbank",
+    ]
+    assert CompoundSection(section, [30.0], [0.03, 0.05]).names() == [
+        "main channel",
+        "right overbank",
+    ]
