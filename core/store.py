@@ -60,6 +60,7 @@ class Store(StoreSync):
         self.db = db
         self.conn = db.conn
         self.path = path
+        self.closed = False
         self.conn.execute("PRAGMA foreign_keys = ON")
         self.conn.execute("PRAGMA busy_timeout = 10000")
         if path is not None:
@@ -111,10 +112,13 @@ class Store(StoreSync):
         return cls(sqlite_utils.Database(conn), None, device_id)
 
     def close(self) -> None:
-        """Checkpoint the WAL into the main file (TRUNCATE) and close."""
+        """Checkpoint the WAL into the main file (TRUNCATE) and close; closing twice is fine."""
+        if self.closed:
+            return
         if self.path is not None:
             self.conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
         self.conn.close()
+        self.closed = True
 
     def __enter__(self) -> Store:
         return self

@@ -167,7 +167,8 @@ class StoreSync:
             )
         if outcome == "newer":
             return self._result("updated", visit_uuid, f"updated {label}, {count} stations{extra}")
-        return self._result("present", visit_uuid, f"{label}: already present{extra}")
+        newer = "; the office copy is newer" if outcome == "older" else ""
+        return self._result("present", visit_uuid, f"{label}: already present{newer}{extra}")
 
     @staticmethod
     def _result(status: str, visit_uuid: str, message: str) -> dict:
