@@ -33,11 +33,12 @@ DEFAULT_SETTINGS = {
     "unit": "m",
     "crew": [],
     "precision": 0.001,
-    "line_tolerance": 0.005,
+    "line_tolerance": None,
     "min_wetted_stations": 20,
     "outbox": "",
 }
-"""Device settings and their defaults (``precision`` and ``line_tolerance`` in the survey unit)."""
+"""Device settings and their defaults (``precision`` and ``line_tolerance`` in the survey unit;
+``line_tolerance`` None means the field checks' default for the unit)."""
 
 POSITION_KEY = "field.position"
 """Setting that remembers the open visit and the station being read, for resuming after a crash."""
@@ -144,7 +145,11 @@ class FieldService:
                 raise ServiceError(f"unknown setting {key!r}")
             if key == "unit" and value not in ("m", "ft"):
                 raise ServiceError(f"length unit {value!r} is not m or ft")
-            if key in ("precision", "line_tolerance") and not (float(value) > 0):
+            if (
+                key in ("precision", "line_tolerance")
+                and value is not None
+                and not float(value) > 0
+            ):
                 raise ServiceError(f"{key.replace('_', ' ')} must be greater than zero")
             if key == "min_wetted_stations" and int(value) < 2:
                 raise ServiceError("minimum stations across the water must be at least 2")
@@ -278,7 +283,7 @@ class FieldService:
     def line_check(self, visit_uuid: str) -> str:
         """The line-level check in words: how far the line heights and the check shot agree."""
         visit = self.store.visit(visit_uuid)
-        unit, tolerance = visit["unit"], float(self.settings()["line_tolerance"])
+        unit, tolerance = visit["unit"], self.check_settings(visit["unit"]).line_tolerance
         left, right, check = visit["line_left"], visit["line_right"], visit["line_check"]
         if left is None or right is None:
             return f"Type the line elevation at both stakes (or assume {ASSUMED_DATUM:.3f})."
@@ -399,6 +404,109 @@ class FieldService:
         level = parse_number(text, "water level")
         self.store.add_water_level(visit_uuid, level)
         return level
+
+    # --- field checks -----------------------------------------------------------------------
+    def check_settings(self, unit: str):
+        """The field-check tolerances for a survey in ``unit`` with this device's settings."""
+        from core.checks import CheckSettings
+
+        settings = self.settings()
+        overrides = {"min_wet_stations": int(settings["min_wetted_stations"])}
+        if settings["line_tolerance"] is not None:
+            overrides["line_tolerance"] = float(settings["line_tolerance"])
+        return CheckSettings.for_unit(unit, **overrides)
+
+    def review_inputs(self, visit_uuid: str) -> dict:
+        """Everything the field checks need, read from the store (UI thread: one quick read)."""
+        visit = self.store.visit(visit_uuid)
+        rows = [r for r in self.readings(visit_uuid) if r.get("elevation") is not None]
+        return {
+            "stations": [r["station"] for r in rows],
+            "elevations": [r["elevation"] for r in rows],
+            "codes": [r["code"] for r in rows],
+            "readings": [r["reading"] for r in rows],
+            "stage": self.water_level(visit_uuid),
+            "meta": {
+                k: visit[k] for k in ("unit", "method", "line_left", "line_right", "line_check")
+            },
+            "settings": self.check_settings(visit["unit"]),
+        }
+
+    @staticmethod
+    def run_review(inputs: dict) -> list[dict]:
+        """Run the field checks on :meth:`review_inputs` (pure: safe on a worker thread)."""
+        from core.checks import review
+
+        return [finding.as_dict() for finding in review(**inputs)]
+
+    def review(self, visit_uuid: str) -> list[dict]:
+        """Field-check findings of the visit (dicts: kind, severity, station, message,
+        suggestion), most serious first; overridden ones carry ``override`` (the reason)."""
+        return self._mark_overrides(visit_uuid, self.run_review(self.review_inputs(visit_uuid)))
+
+    def review_async(self, visit_uuid: str, on_done, on_error=None) -> None:
+        """:meth:`review` on the worker thread; ``on_done(findings)`` on the UI thread."""
+        inputs = self.review_inputs(visit_uuid)
+        overrides = self.store.overrides(visit_uuid)
+        self.worker.run(
+            lambda: self._mark_overrides(visit_uuid, self.run_review(inputs), overrides),
+            on_done,
+            on_error,
+        )
+
+    def _mark_overrides(self, visit_uuid: str, findings: list[dict], overrides=None) -> list[dict]:
+        overrides = self.store.overrides(visit_uuid) if overrides is None else overrides
+        reasons = {(o["kind"], o["station"]): o["reason"] for o in overrides}
+        for finding in findings:
+            finding["override"] = reasons.get((finding["kind"], finding["station"]), "")
+        return findings
+
+    @staticmethod
+    def blocking(findings: list[dict]) -> list[dict]:
+        """The ``block`` findings that have no written override."""
+        return [f for f in findings if f["severity"] == "block" and not f.get("override")]
+
+    # --- finishing --------------------------------------------------------------------------
+    def finish(self, visit_uuid: str, findings: list[dict], reason: str = "") -> None:
+        """Finish the visit: blocking findings need a written ``reason`` (stored as overrides)."""
+        blocking = self.blocking(findings)
+        if blocking and not reason.strip():
+            raise ServiceError(
+                f"{len(blocking)} blocking finding(s) remain: fix them, or write why the visit "
+                "can be finished anyway"
+            )
+        for finding in blocking:
+            self.store.add_override(visit_uuid, finding["kind"], finding["station"], reason.strip())
+        self.store.finish_visit(visit_uuid)
+        position = self.store.get_setting(POSITION_KEY) or {}
+        if position.get("visit") == visit_uuid:
+            self.store.set_setting(POSITION_KEY, None)
+
+    def write_package(self, visit_uuid: str) -> str:
+        """Write the finished visits' packages to the outbox; returns this visit's file path.
+
+        Uses its own connection to the store file, so it may run on the worker thread.
+        """
+        from core.package import pack_visits
+        from core.store import Store
+
+        outbox = self.outbox()
+        if self.store.path:
+            with Store.open(self.store.path, device_id=self.store.device_id) as own:
+                results = pack_visits(own, outbox)
+        else:
+            results = pack_visits(self.store, outbox)
+        paths = [r["path"] for r in results if r["visit"] == visit_uuid]
+        if not paths:
+            raise ServiceError("the visit is not finished, so no package was written")
+        return paths[0]
+
+    def write_package_async(self, visit_uuid: str, on_done, on_error=None) -> None:
+        """:meth:`write_package` on the worker thread (a file store) or at once (in memory)."""
+        if self.store.path:
+            self.worker.run(lambda: self.write_package(visit_uuid), on_done, on_error)
+        else:
+            on_done(self.write_package(visit_uuid))
 
 
 FIGURE_NAMES = dict(

@@ -93,3 +93,16 @@ class KeypadScreen(BaseScreen):
         from kivy.uix.textinput import TextInput
 
         return any(isinstance(w, TextInput) and w.focus for w in self.walk())
+
+
+def field_number(field) -> float | None:
+    """The number typed in a :class:`app.widgets.common.NumberField` (``None`` when empty)."""
+    from app.service import parse_number
+
+    text = field.text.strip()
+    return None if not text else parse_number(text, field.caption)
+
+
+def show_number(value: float | None, decimals: int = 3) -> str:
+    """Text for a number field: ``""`` for ``None``, else the value with ``decimals`` places."""
+    return "" if value is None else f"{value:.{decimals}f}"

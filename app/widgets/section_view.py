@@ -66,6 +66,7 @@ class SectionView(StencilView):
         self._flagged = np.zeros(0)
         self._current: float | None = None
         self._view: list[float] | None = None  # x0, x1, z0, z1 in survey units
+        self._user_view = False  # True once the crew zoomed or panned: keep their view
         self._touches: dict = {}
         self._dragging_level = False
         self._pinch: tuple | None = None
@@ -101,7 +102,7 @@ class SectionView(StencilView):
         self._z = np.asarray(elevations, dtype=float)
         self._flagged = np.asarray(list(flagged), dtype=float)
         self._current = current
-        if refit or self._view is None:
+        if refit or not self._user_view:
             self._view = None
         self.redraw()
 
@@ -265,6 +266,7 @@ class SectionView(StencilView):
             return True
         if touch.is_double_tap:
             self._view = None
+            self._user_view = False
             self.redraw()
             return True
         touch.grab(self)
@@ -322,6 +324,7 @@ class SectionView(StencilView):
             cz - (cz - z0) / factor,
             cz + (z1 - cz) / factor,
         ]
+        self._user_view = True
         self.redraw()
 
     def pan(self, dx: float, dy: float) -> None:
@@ -329,6 +332,7 @@ class SectionView(StencilView):
         _ax, kx, _az, kz = self._scale()
         x0, x1, z0, z1 = self._view
         self._view = [x0 - dx / kx, x1 - dx / kx, z0 - dy / kz, z1 - dy / kz]
+        self._user_view = True
         self.redraw()
 
 
