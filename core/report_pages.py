@@ -502,3 +502,26 @@ def _findings(fig: Figure, data: ReportData, top: float) -> None:
 
 def _clip(text: str, width: int) -> str:
     return text if len(text) <= width else text[: width - 1] + "…"
+
+
+def write_rating_plot(table: dict, unit: str, title: str, path) -> Path:
+    """Plot a rating curve (water level against discharge, with units) to ``.png`` or ``.pdf``."""
+    from core.errors import SurveyError
+
+    path = Path(path)
+    if path.suffix.lower() not in (".png", ".pdf"):
+        raise SurveyError(f"{path}: a plot is written as .png or .pdf")
+    fig = Figure(figsize=(7, 5))
+    FigureCanvasAgg(fig)
+    ax = fig.add_axes((0.12, 0.12, 0.83, 0.76))
+    ax.plot(table["discharge"], table["stage"], "-", color="#1f618d")
+    ax.set_xlabel(f"discharge ({_u('discharge', unit)})")
+    ax.set_ylabel(f"water level ({unit})")
+    ax.set_title(title, fontsize=10)
+    ax.grid(alpha=0.3)
+    fig.text(0.5, 0.015, FOOTER, ha="center", fontsize=6.5, style="italic")
+    try:
+        fig.savefig(path)
+    except OSError as exc:
+        raise SurveyError(f"{path}: cannot be written ({exc.strerror or exc})") from None
+    return path
