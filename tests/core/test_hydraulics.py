@@ -312,3 +312,29 @@ def test_subsection_names():
         "main channel",
         "right overbank",
     ]
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.floats(0.5, 20.0), st.floats(0.0, 4.0), st.floats(0.01, 0.1), st.floats(1e-4, 0.05))
+def test_trapezoid_discharge_rises_with_stage(b, z, n, s):
+    # For a trapezoid A and R both grow with depth, so Manning's Q must too (closed form).
+    stages = np.linspace(0.0, 3.0, 61)
+    q = flow_table(trapezoid(b, z, 3.0), stages, n, s)["discharge"]
+    assert np.all(np.diff(q) > 0)
+
+
+def test_analysis_modules_stay_light():
+    # House rule: the analysis core imports numpy only (no Kivy, SQL, shapely or matplotlib).
+    import subprocess
+    import sys
+
+    code = (
+        "import sys, core.hydraulics, core.rating, core.compare, core.uncertainty, core.roughness, "
+        "core.exports; print(sorted(m for m in ('kivy', 'sqlite_utils', 'sqlite3', 'shapely', "
+        "'matplotlib') if m in sys.modules))"
+    )
+    root = __import__("pathlib").Path(__file__).resolve().parents[2]
+    out = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=root
+    )
+    assert out.stdout.strip() == "[]"

@@ -128,3 +128,11 @@ def test_n_dominates_discharge_uncertainty_on_the_demo():
 def test_band_text():
     assert Band(2.5, 0.0123, 2.49, 2.51).text(3) == "2.500 ± 0.012"
     assert Band(2.0, 0.1, 1.9, 2.1).relative == pytest.approx(0.05)
+
+
+def test_vectorised_figures_with_vertical_walls():
+    # Chow (1959) Table 2-1 rectangle b = 2, y = 1: A = 2, P = b + 2y = 4, T = 2.
+    got = figures_at([0, 0, 2, 2], [2, 0, 0, 2], 1.0)
+    assert_allclose(
+        [got["area"][0], got["wetted_perimeter"][0], got["top_width"][0]], [2.0, 4.0, 2.0]
+    )
