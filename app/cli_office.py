@@ -18,7 +18,7 @@ from core.exports import geojson_text, rating_csv, section_geojson, stations_csv
 from core.geometry import Section
 from core.hydraulics import bank_top_splits, figure_unit, flow_at, slope_from_water_levels
 from core.rating import rating_stages, rating_table, stage_for, stage_from_table
-from core.report import ReportOptions, nice_step, prepare_report, write_report
+from core.report import ReportOptions, field_findings, nice_step, prepare_report, write_report
 from core.roughness import ROUGHNESS, SOURCE, roughness, row_for_n
 from core.section_csv import read_section_csv
 from core.uncertainty import Precision, discharge_band, discharge_for_roughness, geometry_bands
@@ -497,24 +497,6 @@ def _previous(store, visit: dict, args) -> dict | None:
             return None
         other = earlier[-1]
     return {"visit": other, "stations": _live(store.stations(other["uuid"]))}
-
-
-def field_findings(visit: dict, stations: list[dict], stage: float | None) -> list[dict] | None:
-    """Field-check findings of a visit as dicts, or None when ``core.checks`` is not available."""
-    try:
-        from core.checks import review
-    except ImportError:  # hook: the field checks land in their own issue
-        return None
-    entered = sorted(stations, key=lambda s: s.get("seq", 0))
-    found = review(
-        [s["station"] for s in entered],
-        [s["elevation"] for s in entered],
-        stage=stage,
-        meta=visit,
-        codes=[s.get("code", "") or "" for s in entered],
-        readings=[s.get("reading") for s in entered],
-    )
-    return [f.as_dict() for f in found]
 
 
 def run_report(args) -> int:

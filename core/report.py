@@ -254,6 +254,24 @@ def _comparison(data: ReportData, section: Section, previous: dict) -> None:
     data.previous = previous
 
 
+def field_findings(visit: dict, stations: list[dict], stage: float | None) -> list[dict] | None:
+    """Field-check findings of a visit as dicts, or None when ``core.checks`` is not available."""
+    try:
+        from core.checks import review
+    except ImportError:  # hook: reports still work in a build without the field checks
+        return None
+    entered = sorted(stations, key=lambda s: s.get("seq", 0))
+    found = review(
+        [s["station"] for s in entered],
+        [s["elevation"] for s in entered],
+        stage=stage,
+        meta=visit,
+        codes=[s.get("code", "") or "" for s in entered],
+        readings=[s.get("reading") for s in entered],
+    )
+    return [f.as_dict() for f in found]
+
+
 def write_report(data: ReportData, path: str | Path) -> Path:
     """Draw ``data`` to ``path``: ``.pdf`` (A4 pages) or ``.png`` (pages stacked); returns the path."""
     from core import report_pages

@@ -152,11 +152,13 @@ def _section_plot(ax, data: ReportData) -> None:
             lw=1.2,
             label=f"bankfull {data.bankfull['stage']:.3f} {data.unit}",
         )
-    for s in data.splits:
-        ax.axvline(s, color="0.3", ls="-.", lw=0.9)
+    for k, s in enumerate(data.splits):
+        ax.axvline(s, color="0.3", ls="-.", lw=0.9, label="subsection split" if k == 0 else None)
     if data.subsections:
         edges = [x[0], *data.splits, x[-1]]
         for part, a, b in zip(data.subsections, edges, edges[1:], strict=False):
+            if b - a < 0.12 * (x[-1] - x[0]):
+                continue  # too narrow to label; the table on page 2 names every subsection
             ax.text(
                 (a + b) / 2,
                 0.97,
