@@ -51,6 +51,8 @@ def _add_roughness(p) -> None:
     )
     g.add_argument("--split", type=float, action="append", metavar="STATION",
                    help="split the section here (repeat; default for store visits: the bank tops)")  # fmt: skip
+    g.add_argument("--bank-tops", action="store_true",
+                   help="split a section file at its stations coded bank_top (column code)")  # fmt: skip
 
 
 def _add_slope(p) -> None:
@@ -94,6 +96,16 @@ def _n_values(section: Section, n: float, args, splits: list[float]):
     names = CompoundSection(section, splits, [n] * (len(splits) + 1)).names()
     overbank = n if args.n_overbank is None else args.n_overbank
     return [n if name == "main channel" else overbank for name in names]
+
+
+def _splits(args, section: Section, stations: list[dict], from_codes: bool) -> list[float]:
+    """Split stations: --split, else the coded bank tops (store visits, or --bank-tops)."""
+    if args.split:
+        return sorted(args.split)
+    if from_codes or args.bank_tops:
+        codes = [s.get("code", "") or "" for s in stations]
+        return bank_top_splits(section.stations, section.elevations, codes)
+    return []
 
 
 def _open_store(path: str | None):
@@ -202,7 +214,7 @@ def run_flow(args) -> int:
     """Print the uniform-flow figures at one water level."""
     section, stations, unit, _, _ = _source(args)
     n, slope, row = _need_flow_inputs(args)
-    splits = args.split or []
+    splits = _splits(args, section, stations, from_codes=False)
     values = _n_values(section, n, args, splits)
     flow = flow_at(section, args.stage, values, slope, unit, splits or None)
     if args.json:
@@ -272,9 +284,7 @@ def run_rating(args) -> int:
     """Print or write a rating table."""
     section, stations, unit, visit, _ = _source(args)
     n, slope, _ = _need_flow_inputs(args)
-    splits = args.split if args.split is not None else (
-        bank_top_splits(section.stations, section.elevations, [s.get("code", "") or "" for s in stations]) if visit else []
-    )  # fmt: skip
+    splits = _splits(args, section, stations, from_codes=visit is not None)
     values = _n_values(section, n, args, splits)
     step = args.step or nice_step(section.highest_stage - section.lowest)
     table = rating_table(
@@ -331,18 +341,24 @@ def _register_compare(subparsers) -> None:
     p.add_argument("--units", choices=sorted(UNIT_SYSTEMS), default="si", help="unit of the files")
     p.add_argument("--stage", type=float, metavar="S", help="water level for area and top width")
     p.add_argument("--json", action="store_true", help="print a JSON object")
+    p.add_argument("--plot", metavar="FILE.png", help="write an overlay plot (.png or .pdf)")
     p.set_defaults(handler=run_compare)
 
 
-def _compare_inputs(args) -> tuple[Section, Section, str, float | None, list[str]]:
+def _compare_inputs(args) -> tuple[list[dict], list[dict], str, float | None, list[str]]:
     if args.files:
         if len(args.files) != 2 or args.store or args.visit:
             raise _error("give two files BEFORE.csv AFTER.csv, or --store with two --visit")
-        sections = []
+        lines = []
         for name in args.files:
             rows = read_section_csv(name)
-            sections.append(Section(rows.stations, rows.elevations))
-        return sections[0], sections[1], UNIT_SYSTEMS[args.units], args.stage, list(args.files)
+            lines.append(
+                [
+                    {"station": s, "elevation": z}
+                    for s, z in zip(rows.stations, rows.elevations, strict=True)
+                ]
+            )
+        return lines[0], lines[1], UNIT_SYSTEMS[args.units], args.stage, list(args.files)
     if not args.visit or len(args.visit) != 2:
         raise _error("give --visit twice (the two visits to compare) with --store")
     store = _open_store(args.store)
@@ -351,7 +367,7 @@ def _compare_inputs(args) -> tuple[Section, Section, str, float | None, list[str
         raise _error("the two visits are of different sections; compare visits of one section")
     if visits[0]["unit"] != visits[1]["unit"]:
         raise _error(f"the visits use different units ({visits[0]['unit']}, {visits[1]['unit']})")
-    before, after = (_section(_live(store.stations(v["uuid"]))) for v in visits)
+    before, after = (_live(store.stations(v["uuid"])) for v in visits)
     stage = args.stage if args.stage is not None else _water_level(visits[1])
     return before, after, visits[0]["unit"], stage, [v["date"] for v in visits]
 
@@ -359,8 +375,15 @@ def _compare_inputs(args) -> tuple[Section, Section, str, float | None, list[str
 def run_compare(args) -> int:
     """Print the change between two visits."""
     before, after, unit, stage, names = _compare_inputs(args)
-    out = compare_visits(before, after, stage)
+    out = compare_visits(_section(before), _section(after), stage)
     out["unit"] = unit
+    if args.plot:
+        from core.report_pages import write_overlay_plot
+
+        labels = [Path(n).stem if n.endswith(".csv") else n for n in names]
+        print(
+            f"wrote {write_overlay_plot(before, after, unit, labels, args.plot)}", file=sys.stderr
+        )
     if args.json:
         print(json.dumps(out))
         return 0
@@ -416,12 +439,7 @@ def run_export(args) -> int:
     n, _ = _n(args)
     slope = _slope(args)
     if n is not None and slope is not None:
-        codes = [s.get("code", "") or "" for s in stations]
-        splits = (
-            args.split
-            if args.split is not None
-            else bank_top_splits(section.stations, section.elevations, codes)
-        )
+        splits = _splits(args, section, stations, from_codes=True)
         step = args.step or nice_step(section.highest_stage - section.lowest)
         table = rating_table(
             section,

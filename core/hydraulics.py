@@ -158,10 +158,10 @@ def bank_top_splits(stations, elevations, codes: Sequence[str]) -> list[float]:
     z = np.asarray(elevations, dtype=float)
     if len(codes) != x.size:
         raise SurveyError(f"{len(codes)} feature codes for {x.size} stations")
-    deepest = float(x[int(np.argmin(z))])
-    tops = [float(s) for s, c in zip(x, codes, strict=True) if c.strip().lower() == BANK_TOP]
-    left = [s for s in tops if s <= deepest and s > x[0]]
-    right = [s for s in tops if s >= deepest and s < x[-1]]
+    deepest = int(np.argmin(z))
+    tops = [i for i, c in enumerate(codes) if c.strip().lower() == BANK_TOP]
+    left = [float(x[i]) for i in tops if i < deepest and x[i] > x[0]]
+    right = [float(x[i]) for i in tops if i > deepest and x[i] < x[-1]]
     return ([max(left)] if left else []) + ([min(right)] if right else [])
 
 
@@ -391,14 +391,15 @@ def bankfull_stage(stations, elevations, codes: Sequence[str]) -> float | None:
     a person may choose a field indicator instead.
     """
     z = np.asarray(elevations, dtype=float)
-    x = np.asarray(stations, dtype=float)
+    if len(codes) != z.size or len(stations) != z.size:
+        raise SurveyError(f"{len(codes)} feature codes for {z.size} stations")
     deepest = int(np.argmin(z))
     tops = [i for i, c in enumerate(codes) if c.strip().lower() == BANK_TOP]
-    left = [float(z[i]) for i in tops if x[i] <= x[deepest]]
-    right = [float(z[i]) for i in tops if x[i] >= x[deepest]]
+    left = [i for i in tops if i < deepest]
+    right = [i for i in tops if i > deepest]
     if not left or not right:
         return None
-    return min(max(left), max(right))
+    return float(min(z[max(left)], z[min(right)]))  # the bank tops nearest the deepest point
 
 
 def bankfull_summary(section: Section, stage: float) -> dict[str, float]:

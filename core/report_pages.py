@@ -380,21 +380,32 @@ def _comparison_page(data: ReportData) -> Figure:
     fig = _page()
     before = data.previous["visit"].get("date", "before")
     _header(fig, data, f"change since the visit of {before}")
-    ax = fig.add_axes((0.1, 0.55, 0.85, 0.36))
-    bx = [s["station"] for s in data.previous["stations"]]
-    bz = [s["elevation"] for s in data.previous["stations"]]
-    nx, nz = [s["station"] for s in data.stations], [s["elevation"] for s in data.stations]
+    overlay_plot(
+        fig.add_axes((0.1, 0.55, 0.85, 0.36)),
+        data.previous["stations"],
+        data.stations,
+        data.unit,
+        (before, data.visit.get("date", "after")),
+    )
+    _table(fig, 0.49, ["change", "value", "unit"], _comparison_rows(data), [0.55, 0.25, 0.2])
+    return fig
+
+
+def overlay_plot(ax, before: list[dict], after: list[dict], unit: str, labels=("before", "after")):
+    """Both ground lines on ``ax`` with scour shaded red and fill blue; axes labelled in ``unit``."""
+    bx, bz = [s["station"] for s in before], [s["elevation"] for s in before]
+    nx, nz = [s["station"] for s in after], [s["elevation"] for s in after]
     left, right, b0, b1, a0, a1 = profile_panels(bx, bz, nx, nz)
     xs = np.column_stack([left, right]).ravel()
-    base, after = np.column_stack([b0, b1]).ravel(), np.column_stack([a0, a1]).ravel()
+    base, now = np.column_stack([b0, b1]).ravel(), np.column_stack([a0, a1]).ravel()
     for where, colour, label in (
-        (after < base, FLAG_COLOUR, "scour"),
-        (after > base, "#2e86c1", "fill"),
+        (now < base, FLAG_COLOUR, "scour"),
+        (now > base, "#2e86c1", "fill"),
     ):
         ax.fill_between(
             xs,
             base,
-            after,
+            now,
             where=where,
             interpolate=True,
             color=colour,
@@ -402,14 +413,12 @@ def _comparison_page(data: ReportData) -> Figure:
             lw=0,
             label=label,
         )
-    ax.plot(bx, bz, "--", color="0.45", lw=1, label=f"ground {before}")
-    ax.plot(nx, nz, "-", color="#4a3520", lw=1.2, label=f"ground {data.visit.get('date', 'after')}")
-    ax.set_xlabel(f"station ({data.unit})")
-    ax.set_ylabel(f"elevation ({data.unit})")
+    ax.plot(bx, bz, "--", color="0.45", lw=1, label=f"ground {labels[0]}")
+    ax.plot(nx, nz, "-", color="#4a3520", lw=1.2, label=f"ground {labels[1]}")
+    ax.set_xlabel(f"station ({unit})")
+    ax.set_ylabel(f"elevation ({unit})")
     ax.grid(alpha=0.3)
     ax.legend(fontsize=7)
-    _table(fig, 0.49, ["change", "value", "unit"], _comparison_rows(data), [0.55, 0.25, 0.2])
-    return fig
 
 
 def _comparison_rows(data: ReportData) -> list[list[str]]:
@@ -506,8 +515,7 @@ def _clip(text: str, width: int) -> str:
     return text if len(text) <= width else text[: width - 1] + "…"
 
 
-def write_rating_plot(table: dict, unit: str, title: str, path) -> Path:
-    """Plot a rating curve (water level against discharge, with units) to ``.png`` or ``.pdf``."""
+def _single_plot(path, title: str, draw) -> Path:
     from core.errors import SurveyError
 
     path = Path(path)
@@ -516,14 +524,29 @@ def write_rating_plot(table: dict, unit: str, title: str, path) -> Path:
     fig = Figure(figsize=(7, 5))
     FigureCanvasAgg(fig)
     ax = fig.add_axes((0.12, 0.12, 0.83, 0.76))
-    ax.plot(table["discharge"], table["stage"], "-", color="#1f618d")
-    ax.set_xlabel(f"discharge ({_u('discharge', unit)})")
-    ax.set_ylabel(f"water level ({unit})")
+    draw(ax)
     ax.set_title(title, fontsize=10)
-    ax.grid(alpha=0.3)
     fig.text(0.5, 0.015, FOOTER, ha="center", fontsize=6.5, style="italic")
     try:
         fig.savefig(path)
     except OSError as exc:
         raise SurveyError(f"{path}: cannot be written ({exc.strerror or exc})") from None
     return path
+
+
+def write_rating_plot(table: dict, unit: str, title: str, path) -> Path:
+    """Plot a rating curve (water level against discharge, with units) to ``.png`` or ``.pdf``."""
+
+    def draw(ax):
+        ax.plot(table["discharge"], table["stage"], "-", color="#1f618d")
+        ax.set_xlabel(f"discharge ({_u('discharge', unit)})")
+        ax.set_ylabel(f"water level ({unit})")
+        ax.grid(alpha=0.3)
+
+    return _single_plot(path, title, draw)
+
+
+def write_overlay_plot(before: list[dict], after: list[dict], unit: str, labels, path) -> Path:
+    """Plot two visits' ground lines with scour and fill shaded to ``.png`` or ``.pdf``."""
+    title = f"change from {labels[0]} to {labels[1]}"
+    return _single_plot(path, title, lambda ax: overlay_plot(ax, before, after, unit, labels))

@@ -323,3 +323,44 @@ def test_every_office_command_has_help():
     for name in OFFICE_COMMANDS:
         assert helps.get(name), name
         assert sub.choices[name].format_help()
+
+
+def test_flow_compound_split_at_coded_bank_tops(capsys, tmp_path):
+    path = tmp_path / "two.csv"
+    path.write_text(
+        "station,elevation,code\n0,4,\n0,2,\n20,2,bank_top\n20,0,\n30,0,\n30,2,bank_top\n50,2,\n50,4,\n"
+    )
+    code, out, err = run(
+        capsys,
+        "flow",
+        path,
+        "--stage",
+        2.5,
+        "--n",
+        0.03,
+        "--n-overbank",
+        0.05,
+        "--slope",
+        0.001,
+        "--bank-tops",
+        "--json",
+    )
+    assert code == 0, err
+    # Divided-channel method (Chow 1959, sec. 6-7), closed form: flood plains 20 x 0.5 with
+    # P = 20 + 0.5 (outer wall; dividers not wetted), main channel 10 x 2.5 with P = 10 + 2*2.
+    k_plain = 1 / 0.05 * 10.0 * (10.0 / 20.5) ** (2 / 3)
+    k_main = 1 / 0.03 * 25.0 * (25.0 / 14.0) ** (2 / 3)
+    assert json.loads(out)["discharge"] == pytest.approx(
+        (2 * k_plain + k_main) * math.sqrt(0.001), rel=1e-12
+    )
+
+
+def test_compare_plot(capsys, demo_store, tmp_path):
+    path, visits = demo_store
+    a, b = visits[("XS1 riffle", "2026-04-14")], visits[("XS1 riffle", "2026-09-22")]
+    plot = tmp_path / "c.png"
+    code, out, err = run(
+        capsys, "compare", "--store", path, "--visit", a, "--visit", b, "--json", "--plot", plot
+    )
+    assert code == 0 and json.loads(out)["scour_area"] > 0 and "wrote" in err
+    assert plot.read_bytes()[:4] == b"\x89PNG"

@@ -338,3 +338,12 @@ def test_analysis_modules_stay_light():
         [sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=root
     )
     assert out.stdout.strip() == "[]"
+
+
+def test_bank_tops_at_a_vertical_face_next_to_the_deepest_point():
+    # two_stage(): the deepest point is the foot of the left wall at station 20, where the left
+    # bank top also stands; the split must still be 20 (left) and 30 (right).
+    section = two_stage()
+    codes = ["", "", "bank_top", "", "", "bank_top", "", ""]
+    assert bank_top_splits(section.stations, section.elevations, codes) == [20.0, 30.0]
+    assert bankfull_stage(section.stations, section.elevations, codes) == 2.0
