@@ -8,7 +8,8 @@ from core.errors import SurveyError
 from core.roughness import ROUGHNESS, SOURCE, roughness, roughness_keys, row_for_n
 
 # Chow, V. T. (1959), Open-Channel Hydraulics, Table 5-6 (natural streams D-1 and flood plains
-# D-2), minimum / normal / maximum n, re-read from the table as listed in REFERENCES.md.
+# D-2), minimum / normal / maximum n, as transcribed in the project reference notes (the values
+# the module must reproduce; not re-read in the book for this test).
 CHOW_TABLE_5_6 = {
     "clean-straight": (0.025, 0.030, 0.033),
     "clean-straight-stony": (0.030, 0.035, 0.040),
