@@ -19,9 +19,10 @@ from __future__ import annotations
 
 import hashlib
 import json
+import math
 import os
 import re
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable
 from pathlib import Path
 from typing import Any
 
@@ -40,6 +41,9 @@ MAX_BYTES = 8 * 1024 * 1024
 MAX_ROWS = 20_000
 """Most records of one kind (station versions, edits...) accepted in one package."""
 
+_BLANK = "0" * 64
+_SHA_KEY = b'"sha256":"'
+_RECORDS_KEY = b',"records":'
 _UUID = re.compile(r"^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$")
 _DATE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
 _STAMPS = {"created": "time", "modified": "time", "device": "text"}
@@ -104,48 +108,78 @@ def _canonical_bytes(document: Any) -> bytes:
 def build_package(records: dict, device: str, created: str) -> bytes:
     """The bytes of a package holding ``records`` (as ``Store.visit_records``)."""
     manifest = {"format": FORMAT, "visit": records["visit"]["uuid"], "device": device,
-                "created": created}  # fmt: skip
+                "created": created, "sha256": _BLANK}  # fmt: skip
     unsigned = _canonical_bytes({"manifest": manifest, "records": records})
-    manifest["sha256"] = sha256_hex(unsigned)
-    return _canonical_bytes({"manifest": manifest, "records": records})
+    start = _checksum_at(unsigned)
+    return unsigned[:start] + sha256_hex(unsigned).encode("ascii") + unsigned[start + 64 :]
+
+
+def _checksum_at(data: bytes) -> int:
+    """Offset of the manifest checksum's 64 hex digits in canonical package bytes.
+
+    The manifest is the first key and its string values cannot hold a bare quote, so the first
+    ``"sha256":"`` is the manifest's own."""
+    return data.index(_SHA_KEY) + len(_SHA_KEY)
 
 
 def records_sha(records: dict) -> str:
     """SHA-256 of the records alone (same content packed twice gives the same value)."""
-    return sha256_hex(canonical_json(records).encode("utf-8"))
+    return sha256_hex(canonical_json(records).encode("ascii"))
+
+
+def _records_sha_of(data: bytes) -> str:
+    """:func:`records_sha` of verified package bytes, from the records' own canonical text."""
+    start = data.index(_RECORDS_KEY) + len(_RECORDS_KEY)
+    return sha256_hex(data[start:-2])
+
+
+def _is_number(value: Any) -> bool:
+    return (type(value) is float or type(value) is int) and math.isfinite(value)
+
+
+def _is_text(value: Any, limit: int = TEXT_LIMIT) -> bool:
+    return type(value) is str and len(value) <= limit
+
+
+_CHECKS: dict[str, Callable[[Any], bool]] = {
+    "number": _is_number,
+    "count": lambda v: type(v) is int and v >= 0,
+    "text": _is_text,
+    "time": lambda v: _is_text(v, 40),
+    "uuid": lambda v: type(v) is str and len(v) == 36 and _UUID.match(v) is not None,
+    "date": lambda v: type(v) is str and _DATE.match(v) is not None,
+    "flag": lambda v: type(v) is int and v in (0, 1),
+    "names": lambda v: type(v) is list and all(_is_text(n) for n in v),
+    "numbers": lambda v: type(v) is list and all(_is_number(n) for n in v),
+    "object": lambda v: type(v) is dict,
+    **{kind: (lambda v, allowed=allowed: v in allowed) for kind, allowed in CHOICES.items()},
+}
+
+
+def _checker(kind: str) -> Callable[[Any], bool]:
+    check = _CHECKS[kind.rstrip("?")]
+    if kind.endswith("?"):
+        return lambda v: v is None or check(v)
+    return check
+
+
+_RECORD_CHECKS = {
+    kind: (frozenset(fields), [(name, _checker(k)) for name, k in fields.items()])
+    for kind, fields in FIELDS.items()
+}
 
 
 def _value_ok(kind: str, value: Any) -> bool:
-    optional = kind.endswith("?")
-    if value is None:
-        return optional
-    kind = kind.rstrip("?")
-    if kind in ("number", "count"):
-        ok = isinstance(value, int | float) and not isinstance(value, bool)
-        return ok and (kind == "number" or (isinstance(value, int) and value >= 0))
-    if kind in ("text", "time", "uuid"):
-        limit = {"text": TEXT_LIMIT, "time": 40, "uuid": 36}[kind]
-        ok = isinstance(value, str) and len(value) <= limit
-        return ok and (kind != "uuid" or bool(_UUID.match(value)))
-    if kind == "flag":
-        return type(value) is int and value in (0, 1)
-    if kind == "date":
-        return isinstance(value, str) and bool(_DATE.match(value))
-    if kind == "names":
-        return isinstance(value, list) and all(_value_ok("text", v) for v in value)
-    if kind == "numbers":
-        return isinstance(value, list) and all(_value_ok("number", v) for v in value)
-    if kind == "object":
-        return isinstance(value, dict)
-    return value in CHOICES[kind]
+    """Whether ``value`` is a valid value of a field of kind ``kind`` (see FIELDS)."""
+    return _checker(kind)(value)
 
 
 def _check_record(kind: str, record: Any, where: str) -> None:
-    fields = FIELDS[kind]
-    if not isinstance(record, dict) or set(record) != set(fields):
+    names, checks = _RECORD_CHECKS[kind]
+    if type(record) is not dict or record.keys() != names:
         raise PackageError(f"{where} does not have the fields of a {kind} record")
-    for name, value_kind in fields.items():
-        if not _value_ok(value_kind, record[name]):
+    for name, check in checks:
+        if not check(record[name]):
             raise PackageError(f"{where} has a bad {name} value {str(record[name])[:40]!r}")
 
 
@@ -216,10 +250,10 @@ def parse_package(data: bytes) -> tuple[dict, dict]:
         raise PackageError("damaged: a number that is not finite") from None
     if canonical != data:
         raise PackageError("damaged: the file differs from the form Stakeline writes")
-    claimed = manifest.pop("sha256")
-    if claimed != sha256_hex(_canonical_bytes(document)):
+    start = _checksum_at(data)
+    unsigned = data[:start] + _BLANK.encode("ascii") + data[start + 64 :]
+    if manifest["sha256"] != sha256_hex(unsigned):
         raise PackageError("checksum mismatch: the file was damaged or altered")
-    manifest["sha256"] = claimed
     if not _value_ok("uuid", manifest["visit"]) or not _value_ok("text", manifest["device"]):
         raise PackageError("damaged: its manifest names no visit or device")
     check_records(document["records"], manifest["visit"])
@@ -335,14 +369,23 @@ def import_file(store, path: str | os.PathLike) -> dict:
                     "message": f"already imported on {seen['imported'][:10]}; {note}"}  # fmt: skip
         manifest, records = parse_package(data)
         result = store.import_visit_records(
-            records, file_sha, records_sha(records), manifest["device"], data.decode("ascii")
+            records, file_sha, _records_sha_of(data), manifest["device"], data.decode("ascii")
         )
     except StoreError as exc:
         return {**out, "status": "rejected", "message": f"rejected: {exc}"}
     return {**out, **result}
 
 
-def import_files(store, paths: Iterable[str | os.PathLike]) -> list[dict]:
+def import_files(store, paths: Iterable[str | os.PathLike], batch: int = 200) -> list[dict]:
     """Import package files (folders expand to their packages); one :func:`import_file` dict
-    per file, in order."""
-    return [import_file(store, path) for path in expand_paths(paths)]
+    per file, in order.
+
+    Each file is atomic on its own (a savepoint: a rejected file leaves no trace); up to
+    ``batch`` files share one durable commit, so the office waits for the disk once per batch.
+    """
+    files = expand_paths(paths)
+    results: list[dict] = []
+    for start in range(0, len(files), batch):
+        with store.transaction():
+            results.extend(import_file(store, path) for path in files[start : start + batch])
+    return results

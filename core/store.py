@@ -617,12 +617,19 @@ class Store(StoreSync):
             datum = self._row(self._REDUCE_SQL, [row["visit_uuid"]])
             if datum is None:
                 raise StoreError(f"no visit with id {visit_uuid!r} in this store")
-            last = self.conn.execute(
-                "SELECT max(seq) FROM station_versions WHERE visit_uuid = ?", [row["visit_uuid"]]
-            ).fetchone()[0]
-            row["seq"] = (last or 0) + 1
-            self._insert("station_versions", row)
+            # The entry number comes from the index on (visit_uuid, seq) inside the INSERT.
+            (row["seq"],) = self.conn.execute(self._ADD_SQL, list(row.values())[:-4] + [
+                row["visit_uuid"], row["created"], row["device"]]).fetchone()  # fmt: skip
         return self._version_dict(row, row, datum)
+
+    _ADD_SQL = """
+        INSERT INTO station_versions (uuid, station_uuid, visit_uuid, action, station, reading,
+                                      code, note, seq, undoes, created, device)
+        SELECT ?, ?, ?, ?, ?, ?, ?, ?,
+               coalesce((SELECT max(seq) FROM station_versions WHERE visit_uuid = ?), 0) + 1,
+               NULL, ?, ?
+        RETURNING seq
+    """
 
     def _versions(self, visit_uuid: str) -> list[dict]:
         return self._rows(

@@ -11,6 +11,8 @@ Versions:
    overrides, edits (before/after of every change to a site, section or visit), meta (device id).
 2. device settings table (unit, crew, precision, tolerances) and an index of visits by section.
 3. office import log: every package file accepted, with its checksum and outcome.
+4. index of station versions by visit and entry order, so saving a reading stays as fast with
+   the thousandth reading of a visit as with the first.
 """
 
 from __future__ import annotations
@@ -142,10 +144,16 @@ def _v3_import_log(db: sqlite_utils.Database) -> None:
     db["packages"].create_index(["visit_uuid"])
 
 
+def _v4_entry_order_index(db: sqlite_utils.Database) -> None:
+    """Version 4: the next entry number of a visit comes from an index, not a table scan."""
+    db["station_versions"].create_index(["visit_uuid", "seq"])
+
+
 MIGRATIONS: list[Callable[[sqlite_utils.Database], None]] = [
     _v1_field_records,
     _v2_settings,
     _v3_import_log,
+    _v4_entry_order_index,
 ]
 """``MIGRATIONS[k]`` carries a store from schema version ``k`` to ``k + 1``."""
 

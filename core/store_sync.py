@@ -17,7 +17,7 @@ import json
 import sqlite3
 from typing import Any
 
-from core.store_values import StoreError, canonical_json, now
+from core.store_values import StoreError, canonical_json, now, replay
 
 RECORD_TABLES = ("sites", "sections", "visits")
 CHILD_TABLES = ("station_versions", "water_levels", "overrides")
@@ -153,7 +153,8 @@ class StoreSync:
         own = [e for e in edits if e["record_uuid"] == visit_uuid]
         children = [(t, r) for t in CHILD_TABLES for r in records[t]]
         outcome = self._merge_record("visits", records["visit"], own, children)
-        count = self._station_count(visit_uuid) if outcome != "conflict" else None
+        current, _, _ = replay(records["station_versions"])
+        count = sum(v["action"] != "remove" for v in current.values())
         if outcome == "conflict":
             conflict = True
             notes.insert(0, f"{label} was changed both in the office and on {device}; "
@@ -210,8 +211,7 @@ class StoreSync:
         history = [("edits", e) for e in edits] + children
         if existing is None:
             self._insert(table, encoded)
-            for child_table, row in history:
-                self._insert(child_table, self._checked(child_table, row))
+            self._insert_history(history)
             return "new"
         office = self._history(record["uuid"], table)
         incoming = {row["uuid"] for _, row in history}
@@ -226,7 +226,20 @@ class StoreSync:
             f"UPDATE {table} SET {', '.join(f'{k} = ?' for k in columns)} WHERE uuid = ?",
             [*columns.values(), record["uuid"]],
         )
-        for child_table, row in history:
-            if row["uuid"] not in office:
-                self._insert(child_table, self._checked(child_table, row))
+        self._insert_history([(t, row) for t, row in history if row["uuid"] not in office])
         return "newer"
+
+    def _insert_history(self, history: list[tuple[str, dict]]) -> None:
+        """Insert history rows, one statement per table, keeping their order within a table."""
+        by_table: dict[str, list[dict]] = {}
+        for table, row in history:
+            by_table.setdefault(table, []).append(self._checked(table, row))
+        for table, rows in by_table.items():
+            columns = list(rows[0])
+            if any(list(row) != columns for row in rows):
+                raise StoreError(f"{table} records do not all have the same fields")
+            self.conn.executemany(
+                f"INSERT INTO {table} ({', '.join(columns)}) VALUES "
+                f"({', '.join('?' for _ in columns)})",
+                [tuple(row.values()) for row in rows],
+            )

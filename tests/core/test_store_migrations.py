@@ -94,7 +94,9 @@ def test_each_step_adds_what_it_says(tmp_path):
     assert any(i.columns == ["section_uuid", "date"] for i in db["visits"].indexes)
     migrate(db, target=3)
     assert "packages" in db.table_names()
-    assert schema_version(conn) == 3 == LATEST
+    migrate(db, target=4)
+    assert any(i.columns == ["visit_uuid", "seq"] for i in db["station_versions"].indexes)
+    assert schema_version(conn) == 4 == LATEST
     conn.close()
 
 
@@ -106,7 +108,7 @@ def test_a_failed_step_leaves_the_old_version_whole(tmp_path, monkeypatch):
         MIGRATIONS[1](db)  # creates the settings table...
         raise OSError("disk unplugged")  # ...then dies before the step completes
 
-    monkeypatch.setattr(store_schema, "MIGRATIONS", [MIGRATIONS[0], broken, MIGRATIONS[2]])
+    monkeypatch.setattr(store_schema, "MIGRATIONS", [MIGRATIONS[0], broken, *MIGRATIONS[2:]])
     with pytest.raises(OSError):
         Store.open(path)
     conn = sqlite3.connect(path)
