@@ -75,8 +75,13 @@ def register(subparsers) -> None:
 
 def run_pack(args) -> int:
     """Pack every finished visit; one line per package."""
+    from app.cli import CommandError
+
     with _existing_store(args.store) as store:
-        results = pack_visits(store, args.outbox)
+        try:
+            results = pack_visits(store, args.outbox)
+        except OSError as exc:
+            raise CommandError(f"cannot write packages to {args.outbox} ({exc.strerror})") from None
     for result in results:
         print(f"{result['status']:<9} {result['path']}")
     if not results:

@@ -89,18 +89,20 @@ class Store(StoreSync):
         path = os.fspath(path)
         if os.path.isdir(path):
             raise StoreError(f"{path} is a folder; give a store file name")
-        parent = os.path.dirname(os.path.abspath(path))
-        os.makedirs(parent, exist_ok=True)
         try:
+            os.makedirs(os.path.dirname(os.path.abspath(path)), exist_ok=True)
             conn = sqlite3.connect(path, timeout=10, isolation_level=None)
-            conn.execute("PRAGMA schema_version").fetchone()
-        except sqlite3.DatabaseError as exc:
-            raise StoreError(f"{path} is not a Stakeline store ({exc})") from None
+        except (OSError, sqlite3.OperationalError) as exc:
+            raise StoreError(f"cannot open the store {path} ({exc})") from None
         try:
+            conn.execute("PRAGMA schema_version").fetchone()
             return cls(sqlite_utils.Database(conn), path, device_id)
+        except sqlite3.OperationalError as exc:
+            conn.close()
+            raise StoreError(f"cannot use the store {path} ({exc})") from None
         except sqlite3.DatabaseError as exc:
             conn.close()
-            raise StoreError(f"{path} is not a usable Stakeline store ({exc})") from None
+            raise StoreError(f"{path} is not a Stakeline store ({exc})") from None
         except BaseException:
             conn.close()
             raise

@@ -10,6 +10,8 @@ import shutil
 from pathlib import Path
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from core import package
 from core.package import (
@@ -310,3 +312,85 @@ def test_pack_is_atomic_and_refuses_a_file_as_outbox(field, tmp_path, monkeypatc
     with pytest.raises(OSError):
         pack_visits(field, tmp_path / "box")
     assert os.listdir(tmp_path / "box") == []  # no half-written package under any name
+
+
+def test_a_rejected_file_in_a_batch_leaves_no_trace(office, outbox, tmp_path):
+    files = sorted(outbox.iterdir())
+    import_files(office, files[:1])
+    first = json.loads(files[0].read_bytes())["records"]
+
+    def clash(records):  # a new visit that reuses a station version id already in the office
+        records["station_versions"][-1]["uuid"] = first["station_versions"][0]["uuid"]
+
+    forged = tmp_path / "clash.stakeline-visit.json"
+    forged.write_bytes(_resign(files[1], clash))
+    results = import_files(office, [files[2], forged, files[1]])
+    assert [r["status"] for r in results] == ["imported", "rejected", "imported"]
+    assert "clash" in results[1]["message"]
+    assert len(office.visits()) == 3
+    assert office.visit(first["visit"]["uuid"])["station_count"] == 27
+
+
+def test_section_edited_on_two_devices_is_reported(field, office, outbox, tmp_path):
+    import_files(office, [outbox])
+    field.close()
+    shutil.copy(tmp_path / "field.db", tmp_path / "second.db")
+    a = Store.open(tmp_path / "field.db")
+    b = Store.open(tmp_path / "second.db", device_id="tablet-B")
+    try:
+        section = a.sections()[0]["uuid"]
+        a.update_section(section, benchmark_name="BM-A (re-set 2026)")
+        b.update_section(section, left_coordinates=(-2.6121, 51.4301))
+        for store, box in ((a, "from-a"), (b, "from-b")):
+            visit = store.start_visit(section, "2026-10-01", line_left=101.2)
+            store.save_station(visit["uuid"], 0.0, 0.3)
+            store.finish_visit(visit["uuid"])
+            pack_visits(store, tmp_path / box)
+    finally:
+        a.close()
+        b.close()
+    assert "conflict" not in {r["status"] for r in import_files(office, [tmp_path / "from-a"])}
+    results = import_files(office, [tmp_path / "from-b"])
+    conflicts = [r for r in results if r["status"] == "conflict"]
+    assert conflicts and all("differs from the office copy" in r["message"] for r in conflicts)
+    assert office.section(section)["benchmark_name"] == "BM-A (re-set 2026)"
+    # The new visit from tablet-B is still imported (nothing dropped), on the office's section.
+    assert len([v for v in office.visits() if v["date"] == "2026-10-01"]) == 2
+
+
+@settings(
+    max_examples=25, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
+@given(
+    names=st.lists(st.text(max_size=30), min_size=3, max_size=3),
+    points=st.lists(
+        st.tuples(
+            st.floats(-1e6, 1e6, allow_nan=False),
+            st.floats(-1e3, 1e3, allow_nan=False),
+            st.text(max_size=12),
+        ),
+        max_size=20,
+    ),
+    unit=st.sampled_from(["m", "ft"]),
+)
+def test_any_visit_round_trips_through_a_package(tmp_path_factory, names, points, unit):
+    folder = tmp_path_factory.mktemp("round")
+    field = Store.open(folder / "f.db", device_id="tablet-Ü")
+    office = Store.open(folder / "o.db", device_id="office")
+    try:
+        site = field.create_site(names[0].strip() or "site", stream=names[1])
+        section = field.create_section(site["uuid"], names[2].strip() or "xs")
+        visit = field.start_visit(section["uuid"], "2026-07-01", unit=unit, line_left=10.0,
+                                  notes=" ".join(names))  # fmt: skip
+        for x, reading, note in points:
+            field.save_station(visit["uuid"], x, reading, note=note)
+        if points:
+            field.undo(visit["uuid"])
+        field.finish_visit(visit["uuid"])
+        pack_visits(field, folder / "out")
+        assert [r["status"] for r in import_files(office, [folder / "out"])] == ["imported"]
+        assert office.visit(visit["uuid"]) == field.visit(visit["uuid"])
+        assert office.stations(visit["uuid"]) == field.stations(visit["uuid"])
+    finally:
+        field.close()
+        office.close()
