@@ -118,7 +118,13 @@ class Store(StoreSync):
         if self.closed:
             return
         if self.path is not None:
-            self.conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+            # Another connection still reading must not stall closing: wait briefly, and
+            # leave the rest of the WAL to the next checkpoint if it is busy.
+            self.conn.execute("PRAGMA busy_timeout = 200")
+            try:
+                self.conn.execute("PRAGMA wal_checkpoint(TRUNCATE)").fetchall()
+            except sqlite3.OperationalError:
+                pass
         self.conn.close()
         self.closed = True
 

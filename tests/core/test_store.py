@@ -318,3 +318,20 @@ def test_failed_change_leaves_nothing_behind(store, visit):
             store.save_station(visit["uuid"], 0.0, 1.0)
             raise RuntimeError("power cut")
     assert store.stations(visit["uuid"]) == []
+
+
+def test_close_does_not_wait_for_another_reader(tmp_path):
+    import time
+
+    path = tmp_path / "two.db"
+    main_store = Store.open(path)
+    main_store.load_demo()
+    reader = main_store.conn.execute("SELECT * FROM station_versions")  # an open read
+    reader.fetchone()
+    started = time.perf_counter()
+    Store.open(path).close()  # e.g. the package writer's own connection on a worker thread
+    assert time.perf_counter() - started < 5
+    reader.fetchall()
+    main_store.close()
+    with Store.open(path) as again:
+        assert len(again.visits()) == 3
