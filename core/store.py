@@ -7,8 +7,11 @@ undone.  Changes to a site, section or visit are logged in ``edits`` with the ol
 Every value is a bound parameter; every change is one transaction, committed before the method
 returns.  All lengths are in the visit's unit (``"m"`` or ``"ft"``), recorded with the visit.
 
-This is the only module (with :mod:`core.store_schema`) that speaks SQL.  Returned records are
-plain dicts; their keys are documented on each method and stay stable.
+The store is the only part of Stakeline that speaks SQL.  It is split by topic, each part a
+mixin of :class:`Store`: :mod:`core.store_schema` (tables and migrations),
+:mod:`core.store_visits`, :mod:`core.store_stations`, :mod:`core.store_sync` (package export and
+office merge); :mod:`core.store_values` holds its SQL-free validation and reduction.  Returned
+records are plain dicts; their keys are documented on each method and stay stable.
 """
 
 from __future__ import annotations
@@ -24,28 +27,22 @@ from typing import Any
 
 import sqlite_utils
 
-from core import reduction
-from core.errors import SurveyError
 from core.store_schema import LATEST, migrate, schema_version
+from core.store_stations import StoreStations
 from core.store_sync import StoreSync
 from core.store_values import (
     METHODS,
     SECTION_FIELDS,
-    STATION_FIELDS,
-    TEXT_LIMIT,
-    VISIT_FIELDS,
     StoreError,
     canonical_json,
     choice,
     coordinates,
-    elevations,
-    iso_date,
     new_uuid,
     now,
     number,
-    replay,
     text,
 )
+from core.store_visits import StoreVisits
 
 __all__ = ["Store", "StoreError", "DEMO_PATH", "METHODS"]
 
@@ -53,7 +50,7 @@ DEMO_PATH = Path(__file__).resolve().parent.parent / "demo_data" / "tessaly_cree
 """The invented Tessaly Creek survey loaded by :meth:`Store.load_demo`."""
 
 
-class Store(StoreSync):
+class Store(StoreVisits, StoreStations, StoreSync):
     """A Stakeline store in one SQLite file; open with :meth:`open` or :meth:`memory`."""
 
     def __init__(self, db: sqlite_utils.Database, path: str | None, device_id: str | None):
@@ -367,394 +364,6 @@ class Store(StoreSync):
             params,
         )
         return [self._section_dict(row) for row in rows]
-
-    # -- visits -------------------------------------------------------------------------------
-    def _visit_columns(self, fields: dict) -> dict:
-        unknown = set(fields) - set(VISIT_FIELDS)
-        if unknown:
-            raise StoreError(f"cannot set {', '.join(sorted(unknown))} on a visit")
-        columns: dict[str, Any] = {}
-        for key, value in fields.items():
-            if key == "date":
-                columns[key] = iso_date(value)
-            elif key == "crew":
-                names = [value] if isinstance(value, str) else list(value or ())
-                columns[key] = canonical_json([text(n, "crew name").strip() for n in names])
-            elif key == "unit":
-                try:
-                    columns[key] = reduction.check_unit(value)
-                except SurveyError as exc:
-                    raise StoreError(str(exc)) from None
-            elif key == "method":
-                columns[key] = choice(value, METHODS, "method")
-            elif key == "notes":
-                columns[key] = text(value, "notes")
-            elif key == "settings":
-                if not isinstance(value, dict) or len(canonical_json(value)) > TEXT_LIMIT:
-                    raise StoreError("visit settings must be a small JSON object")
-                columns[key] = canonical_json(value)
-            elif key == "planned_stations":
-                planned = [number(s, "planned station") for s in value or ()]
-                columns["planned"] = canonical_json(planned)
-            else:
-                columns[key] = number(value, key.replace("_", " "), optional=True)
-        if (columns.get("stake_distance") or 1) <= 0:
-            raise StoreError("the distance between the stakes must be positive")
-        return columns
-
-    def start_visit(
-        self,
-        section_uuid: str,
-        date: str,
-        crew: tuple[str, ...] | list[str] = (),
-        unit: str = "m",
-        line_left: float | None = None,
-        line_right: float | None = None,
-        line_check: float | None = None,
-        method: str = "line",
-        notes: str = "",
-        stake_distance: float | None = None,
-        backsight: float | None = None,
-    ) -> dict:
-        """Start a visit to a section; returns :meth:`visit`'s dict.
-
-        ``line_left``/``line_right`` are the level line's elevations at the stakes and
-        ``line_check`` the level check (survey unit); ``stake_distance`` the taped distance
-        between stakes; ``backsight`` the benchmark backsight for the ``"rod"`` method.
-        """
-        self._get("sections", section_uuid, "section")
-        columns = self._visit_columns(
-            dict(date=date, crew=crew, unit=unit, method=method, line_left=line_left,
-                 line_right=line_right, line_check=line_check, notes=notes,
-                 stake_distance=stake_distance, backsight=backsight)
-        )  # fmt: skip
-        record = self._stamped(
-            section_uuid=section_uuid, planned="[]", settings="{}", finished=None, **columns
-        )
-        with self.transaction():
-            self._insert("visits", record)
-        return self.visit(record["uuid"])
-
-    def update_visit(self, visit_uuid: str, **fields) -> dict:
-        """Change fields of a visit (any of ``VISIT_FIELDS``); old values stay in history.
-
-        The length unit cannot change once readings exist (they are in that unit).
-        """
-        visit = self._get("visits", visit_uuid, "visit")
-        columns = self._visit_columns(fields)
-        if columns.get("unit", visit["unit"]) != visit["unit"] and self._station_count(visit_uuid):
-            raise StoreError(
-                f"this visit already has readings in {visit['unit']}; its unit cannot change"
-            )
-        with self.transaction():
-            self._update("visits", visit_uuid, columns)
-        return self.visit(visit_uuid)
-
-    def finish_visit(self, visit_uuid: str) -> dict:
-        """Mark a visit finished (ready to pack); returns :meth:`visit`'s dict."""
-        visit = self._get("visits", visit_uuid, "visit")
-        if visit["finished"] is None:
-            with self.transaction():
-                self._update("visits", visit_uuid, {"finished": now()})
-        return self.visit(visit_uuid)
-
-    def reopen_visit(self, visit_uuid: str) -> dict:
-        """Clear a visit's finished mark so the crew can go on; returns :meth:`visit`'s dict."""
-        self._get("visits", visit_uuid, "visit")
-        with self.transaction():
-            self._update("visits", visit_uuid, {"finished": None})
-        return self.visit(visit_uuid)
-
-    def set_planned_stations(self, visit_uuid: str, stations: list[float]) -> None:
-        """Record the spacing plan: the stations to read, survey unit, in tape order."""
-        self.update_visit(visit_uuid, planned_stations=list(stations))
-
-    def planned_stations(self, visit_uuid: str) -> list[float]:
-        """The spacing plan set by :meth:`set_planned_stations` (survey unit)."""
-        return json.loads(self._get("visits", visit_uuid, "visit")["planned"])
-
-    _LIVE_SQL = """
-        WITH undone AS (SELECT undoes FROM station_versions WHERE action = 'undo'{where}),
-        live AS (SELECT max(id) AS id FROM station_versions
-                 WHERE action != 'undo' AND uuid NOT IN undone{where} GROUP BY station_uuid)
-        SELECT sv.visit_uuid, count(*) AS n FROM live JOIN station_versions sv ON sv.id = live.id
-        WHERE sv.action != 'remove' GROUP BY sv.visit_uuid
-    """
-
-    def _station_counts(self, visit_uuid: str | None = None) -> dict[str, int]:
-        if visit_uuid is None:
-            rows = self.conn.execute(self._LIVE_SQL.format(where=""))
-        else:
-            sql = self._LIVE_SQL.format(where=" AND visit_uuid = ?")
-            rows = self.conn.execute(sql, [visit_uuid, visit_uuid])
-        return dict(rows.fetchall())
-
-    def _station_count(self, visit_uuid: str) -> int:
-        return self._station_counts(visit_uuid).get(visit_uuid, 0)
-
-    _VISIT_SQL = """
-        SELECT v.*, s.name AS section, s.site_uuid, t.name AS site, s.origin,
-               s.benchmark_elevation,
-               max(v.modified, coalesce((SELECT max(created) FROM station_versions
-                                         WHERE visit_uuid = v.uuid), '')) AS modified,
-               (SELECT count(*) FROM packages p WHERE p.visit_uuid = v.uuid
-                 AND p.status = 'conflict' AND p.resolved IS NULL) AS conflicts
-        FROM visits v JOIN sections s ON s.uuid = v.section_uuid JOIN sites t ON t.uuid = s.site_uuid
-    """
-
-    def _visit_dict(self, row: dict, counts: dict[str, int]) -> dict:
-        row["crew"] = json.loads(row["crew"])
-        row["planned_stations"] = json.loads(row.pop("planned"))
-        row["settings"] = json.loads(row["settings"])
-        row["finished_at"] = row["finished"]
-        row["finished"] = row["finished"] is not None
-        row["station_count"] = counts.get(row["uuid"], 0)
-        row["conflict"] = bool(row.pop("conflicts"))
-        return row
-
-    def visit(self, visit_uuid: str) -> dict:
-        """One visit: uuid, section_uuid, section, site_uuid, site, date, crew (list), unit,
-        method, line_left, line_right, line_check, stake_distance, backsight,
-        benchmark_elevation, origin, notes, settings (dict), planned_stations, finished (bool),
-        finished_at (time or None), station_count, conflict (bool: an imported copy differs),
-        water_levels (list of :meth:`add_water_level` dicts, by time), created, modified,
-        device."""
-        row = self._row(self._VISIT_SQL + " WHERE v.uuid = ?", [str(visit_uuid)])
-        if row is None:
-            raise StoreError(f"no visit with id {visit_uuid!r} in this store")
-        visit = self._visit_dict(row, self._station_counts(visit_uuid))
-        visit["water_levels"] = self._rows(
-            "SELECT * FROM water_levels WHERE visit_uuid = ? ORDER BY time, created", [visit_uuid]
-        )
-        return visit
-
-    def visits(self, section_uuid: str | None = None) -> list[dict]:
-        """Visits (of one section, or all) by date then site and section; each dict has uuid,
-        site, section, date, station_count, finished, plus the keys of :meth:`visit` except
-        water_levels."""
-        where, params = ("WHERE v.section_uuid = ?", [section_uuid]) if section_uuid else ("", [])
-        rows = self._rows(
-            self._VISIT_SQL + where + " ORDER BY v.date, t.name, s.name, v.created", params
-        )
-        counts = self._station_counts()
-        return [self._visit_dict(row, counts) for row in rows]
-
-    def add_water_level(self, visit_uuid: str, elevation: float, time: str | None = None) -> dict:
-        """Record a water-level observation (elevation, survey unit) at ``time`` (ISO 8601; now
-        when None); returns {uuid, visit_uuid, elevation, time, created, modified, device}."""
-        self._get("visits", visit_uuid, "visit")
-        record = self._stamped(
-            visit_uuid=visit_uuid,
-            elevation=number(elevation, "water level"),
-            time=text(time, "time") or now(),
-        )
-        with self.transaction():
-            self._insert("water_levels", record)
-        return record
-
-    def add_override(self, visit_uuid: str, kind: str, station: float | None, reason: str) -> dict:
-        """Record why a field-check finding is accepted; returns {uuid, visit_uuid, kind,
-        station (survey unit or None), reason, created, modified, device}."""
-        self._get("visits", visit_uuid, "visit")
-        if not text(reason, "reason").strip():
-            raise StoreError("an override needs a written reason")
-        record = self._stamped(
-            visit_uuid=visit_uuid,
-            kind=text(kind, "finding kind"),
-            station=number(station, "station", optional=True),
-            reason=reason.strip(),
-        )
-        with self.transaction():
-            self._insert("overrides", record)
-        return record
-
-    def overrides(self, visit_uuid: str) -> list[dict]:
-        """The visit's overrides, oldest first (keys as :meth:`add_override`)."""
-        return self._rows(
-            "SELECT * FROM overrides WHERE visit_uuid = ? ORDER BY created", [visit_uuid]
-        )
-
-    # -- stations: append-only versions -------------------------------------------------------
-    _REDUCE_SQL = """
-        SELECT v.method, v.line_left, v.line_right, v.stake_distance, v.backsight,
-               s.origin, s.benchmark_elevation
-        FROM visits v JOIN sections s ON s.uuid = v.section_uuid WHERE v.uuid = ?
-    """
-
-    def _version_dict(self, row: dict, first: dict, datum: dict | None) -> dict:
-        out = {
-            "uuid": row["station_uuid"],
-            "version": row["uuid"],
-            "visit_uuid": row["visit_uuid"],
-            "action": row["action"],
-            "station": row["station"],
-            "reading": row["reading"],
-            "code": row["code"],
-            "note": row["note"],
-            "seq": row["seq"],
-            "removed": row["action"] == "remove",
-            "created": first["created"],
-            "modified": row["created"],
-            "device": row["device"],
-        }
-        if datum is not None:
-            out["elevation"] = elevations(datum, [row["station"]], [row["reading"]])[0]
-        return out
-
-    def save_station(
-        self, visit_uuid: str, station: float, reading: float, code: str = "", note: str = ""
-    ) -> dict:
-        """Save one reading, durably committed before returning.
-
-        ``station`` is the tape distance and ``reading`` the plumb reading down from the line
-        (or the rod foresight), both in the visit's unit.  Returns {uuid, version, visit_uuid,
-        action, station, reading, elevation, code, note, seq, removed, created, modified,
-        device}; ``elevation`` is line - reading (or HI - foresight), None until known.
-        """
-        values = {
-            "station": number(station, "station"),
-            "reading": number(reading, "reading"),
-            "code": text(code, "feature code"),
-            "note": text(note, "note"),
-        }
-        stamp = now()
-        row = {"uuid": new_uuid(), "station_uuid": new_uuid(), "visit_uuid": str(visit_uuid),
-               "action": "add", **values, "seq": 0, "undoes": None, "created": stamp,
-               "device": self._device}  # fmt: skip
-        with self.transaction():
-            datum = self._row(self._REDUCE_SQL, [row["visit_uuid"]])
-            if datum is None:
-                raise StoreError(f"no visit with id {visit_uuid!r} in this store")
-            # The entry number comes from the index on (visit_uuid, seq) inside the INSERT.
-            (row["seq"],) = self.conn.execute(self._ADD_SQL, list(row.values())[:-4] + [
-                row["visit_uuid"], row["created"], row["device"]]).fetchone()  # fmt: skip
-        return self._version_dict(row, row, datum)
-
-    _ADD_SQL = """
-        INSERT INTO station_versions (uuid, station_uuid, visit_uuid, action, station, reading,
-                                      code, note, seq, undoes, created, device)
-        SELECT ?, ?, ?, ?, ?, ?, ?, ?,
-               coalesce((SELECT max(seq) FROM station_versions WHERE visit_uuid = ?), 0) + 1,
-               NULL, ?, ?
-        RETURNING seq
-    """
-
-    def _versions(self, visit_uuid: str) -> list[dict]:
-        return self._rows(
-            "SELECT * FROM station_versions WHERE visit_uuid = ? ORDER BY id", [visit_uuid]
-        )
-
-    def stations(self, visit_uuid: str) -> list[dict]:
-        """Current stations of a visit sorted by station, then entry order (so a vertical face
-        keeps its two readings in the order read); dicts as :meth:`save_station`."""
-        datum = self._row(self._REDUCE_SQL, [str(visit_uuid)])
-        if datum is None:
-            raise StoreError(f"no visit with id {visit_uuid!r} in this store")
-        current, first, _ = replay(self._versions(visit_uuid))
-        live = [v for v in current.values() if v["action"] != "remove"]
-        live.sort(key=lambda v: (v["station"], v["seq"]))
-        out = [self._version_dict(v, first[v["station_uuid"]], None) for v in live]
-        heights = elevations(datum, [v["station"] for v in live], [v["reading"] for v in live])
-        for record, elevation in zip(out, heights, strict=True):
-            record["elevation"] = elevation
-        return out
-
-    def _current(self, station_uuid: str) -> tuple[dict, dict]:
-        row = self._row(
-            "SELECT visit_uuid FROM station_versions WHERE station_uuid = ?", [str(station_uuid)]
-        )
-        if row is None:
-            raise StoreError(f"no station with id {station_uuid!r} in this store")
-        versions = [
-            v for v in self._versions(row["visit_uuid"]) if v["station_uuid"] == station_uuid
-        ]
-        current, first, _ = replay(versions)
-        if station_uuid not in current or current[station_uuid]["action"] == "remove":
-            raise StoreError("that station was removed or undone; enter it again")
-        return current[station_uuid], first[station_uuid]
-
-    def _supersede(self, station_uuid: str, action: str, changes: dict) -> dict:
-        unknown = set(changes) - set(STATION_FIELDS)
-        if unknown:
-            raise StoreError(f"cannot change {', '.join(sorted(unknown))} of a station")
-        checks = {"station": number, "reading": number, "code": text, "note": text}
-        changes = {k: checks[k](v, k) for k, v in changes.items()}
-        with self.transaction():
-            old, first = self._current(station_uuid)
-            row = {**old, **changes, "uuid": new_uuid(), "action": action, "created": now(),
-                   "device": self._device}  # fmt: skip
-            row.pop("id")
-            self._insert("station_versions", row)
-            datum = self._row(self._REDUCE_SQL, [row["visit_uuid"]])
-        return self._version_dict(row, first, datum)
-
-    def correct_station(self, station_uuid: str, **changes) -> dict:
-        """Supersede a station with corrected station/reading/code/note (the old version stays
-        in :meth:`station_history`); returns the new current dict as :meth:`save_station`."""
-        return self._supersede(station_uuid, "correct", changes)
-
-    def remove_station(self, station_uuid: str) -> dict:
-        """Supersede a station with a ``removed`` version; returns that version's dict."""
-        return self._supersede(station_uuid, "remove", {})
-
-    def station_history(self, station_uuid: str) -> list[dict]:
-        """Every version of a station, oldest first: :meth:`save_station`'s keys (``modified``
-        is when that version was written) plus ``undone`` (bool)."""
-        versions = self._rows(
-            "SELECT * FROM station_versions WHERE station_uuid = ? AND action != 'undo' ORDER BY id",
-            [station_uuid],
-        )
-        if not versions:
-            raise StoreError(f"no station with id {station_uuid!r} in this store")
-        datum = self._row(self._REDUCE_SQL, [versions[0]["visit_uuid"]])
-        undone = {
-            r[0]
-            for r in self.conn.execute(
-                "SELECT undoes FROM station_versions WHERE visit_uuid = ? AND action = 'undo'",
-                [versions[0]["visit_uuid"]],
-            )
-        }
-        out = []
-        for v in versions:
-            record = self._version_dict(v, versions[0], datum)
-            record["undone"] = v["uuid"] in undone
-            out.append(record)
-        return out
-
-    def undo(self, visit_uuid: str) -> dict | None:
-        """Undo the latest station change (add, correct or remove) of a visit not yet undone.
-
-        Nothing is deleted: an ``undo`` version marks the change undone.  Returns the undone
-        version (as :meth:`station_history`) with ``current``: the station now (or None when it
-        no longer exists); None when there is nothing left to undo.
-        """
-        with self.transaction():
-            versions = self._versions(str(visit_uuid))
-            _, first, undone = replay(versions)
-            target = next(
-                (
-                    v
-                    for v in reversed(versions)
-                    if v["action"] != "undo" and v["uuid"] not in undone
-                ),
-                None,
-            )
-            if target is None:
-                return None
-            self._insert(
-                "station_versions",
-                {"uuid": new_uuid(), "station_uuid": target["station_uuid"],
-                 "visit_uuid": target["visit_uuid"], "action": "undo", "seq": target["seq"],
-                 "undoes": target["uuid"], "created": now(), "device": self._device},
-            )  # fmt: skip
-        datum = self._row(self._REDUCE_SQL, [target["visit_uuid"]])
-        result = self._version_dict(target, first[target["station_uuid"]], datum)
-        result["undone"] = True
-        try:
-            result["current"] = self._version_dict(*self._current(target["station_uuid"]), datum)
-        except StoreError:
-            result["current"] = None
-        return result
 
     # -- device settings ----------------------------------------------------------------------
     def get_setting(self, key: str, default: Any = None) -> Any:
