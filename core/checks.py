@@ -126,7 +126,9 @@ class CheckSettings:
     - ``wide_panel_ratio``: a wetted panel wider than this times the median wetted panel (and
       wider than 1/``min_wet_stations`` of the water width) is a gap.
     - ``break_area_share``: largest area the straight line across a panel may miss at a slope
-      break, as a share of the panel's wetted area (USBR Water Measurement Manual ch. 10: 3 %).
+      break, as a share of the panel's wetted area (USBR Water Measurement Manual ch. 10: 3 %);
+      ``break_min_share``: and the least, as a share of the whole wetted area, worth a finding
+      (ours: 1 %, so that bed roughness is not taken for a break).
     - ``edge_distance``: a water's edge farther than this from every station is unread.
     - ``line_tolerance``: allowed disagreement of the line heights with the level check.
     - ``plumb_length``: longest reading the plumb (or rod) allows; ``None`` skips that check.
@@ -146,6 +148,7 @@ class CheckSettings:
     max_panel_share: float = 0.10
     wide_panel_ratio: float = 1.75
     break_area_share: float = 0.03
+    break_min_share: float = 0.01
     edge_distance: float = 0.15
     line_tolerance: float = 0.01
     plumb_length: float | None = None
@@ -498,7 +501,7 @@ def spike_scores(stations, elevations, codes=None, settings: CheckSettings | Non
     pred, gain, slope, allow = _predictions(x, z, breaks)
     miss = z - pred
     spread = _robust_spread(miss[0], gain[0], 0.5 * cfg.reading_precision)
-    noise = gain * np.sqrt(spread**2 + (0.5 * cfg.station_precision * slope) ** 2) + allow
+    noise = gain * np.hypot(spread, 0.5 * cfg.station_precision * slope) + allow
     scaled = miss / noise
     have = np.isfinite(scaled)
     up = np.all(np.where(have, scaled > 0, True), axis=0)
@@ -536,13 +539,26 @@ def spike_findings(
     x, z = np.asarray(stations, dtype=float), np.asarray(elevations, dtype=float)
     if x.size < 3:
         return []
+    codes = list(codes) if codes is not None else [""] * x.size
+    need = np.where([bool(c) for c in codes], cfg.spike_coded_factor, 1.0)
     score, miss, expected = spike_scores(x, z, codes, cfg)
-    coded = np.array([bool(c) for c in codes]) if codes is not None else np.zeros(x.size, bool)
-    need = np.where(coded, cfg.spike_coded_factor, 1.0)
-    flagged = np.flatnonzero((score >= need) & (np.abs(miss) >= cfg.spike_floor))
+    keep = np.ones(x.size, dtype=bool)
+    flagged: list[int] = []
+    # worst first, then again without it: a spike also throws its neighbours' predictions out
+    while len(flagged) < max(x.size // 5, 1):
+        where = np.flatnonzero(keep)
+        sc, ms, ex = spike_scores(x[keep], z[keep], [codes[k] for k in where], cfg)
+        over = (sc >= need[keep]) & (np.abs(ms) >= cfg.spike_floor)
+        if not over.any() or where.size < 4:
+            break
+        k = int(np.argmax(np.where(over, sc / need[keep], -1.0)))
+        i = int(where[k])
+        score[i], miss[i], expected[i] = sc[k], ms[k], ex[k]
+        flagged.append(i)
+        keep[i] = False
     out = []
     unit = cfg.unit
-    for i in flagged.tolist():
+    for i in sorted(flagged):
         far = score[i] >= 2 * need[i] and abs(miss[i]) >= 2 * cfg.spike_floor
         way = "high" if miss[i] > 0 else "low"
         hint = f"elevation near {_len(expected[i], unit)}"
@@ -725,70 +741,60 @@ def gap_findings(stations, elevations, stage: float, settings=None) -> list[Find
       1/``min_wet_stations`` of the water surface (common practice: 20 or more stations across);
     - slope break: the neighbouring segments, extended, meet inside the panel and the straight
       line may miss more than ``break_area_share`` of the panel's area (USBR Water Measurement
-      Manual ch. 10: verticals so that straight lines between them are within 3 % in area).
+      Manual ch. 10: verticals so that straight lines between them are within 3 % in area) and
+      more than ``break_min_share`` of the whole wetted area.
 
     The suggestion names the station to add: the middle of the panel, or the likely break.
     """
     cfg = settings or CheckSettings()
     x, z = np.asarray(stations, dtype=float), np.asarray(elevations, dtype=float)
-    wet_width, mean_depth, mean_f, edge = _wet_panels(x, z, stage)
+    wet_width, mean_depth, mean_f, _ = _wet_panels(x, z, stage)
     flow = wet_width * mean_f
-    total = float(flow.sum())
-    if total <= 0:
+    if flow.sum() <= 0:
         return []
-    share = flow / total
-    surface = float(wet_width.sum())
-    found: dict[int, tuple[str, float]] = {}
+    unit, width, middle = cfg.unit, np.diff(x), 0.5 * (x[:-1] + x[1:])
+    why: dict[int, list[str]] = {}
+    add_at = {}  # where to add a station: the likely break, else the middle of the panel
+    share = flow / flow.sum()
     for j in np.flatnonzero(share > cfg.max_panel_share).tolist():
-        found[j] = (
+        why.setdefault(j, []).append(
             f"it carries about {100 * share[j]:.0f} % of the flow by the depth^(5/3) x width "
-            f"proxy (USGS practice: no panel over {100 * cfg.max_panel_share:.0f} %)",
-            float(0.5 * (x[j] + x[j + 1])),
+            f"proxy (USGS practice: no panel over {100 * cfg.max_panel_share:.0f} %)"
         )
-    width = np.diff(x)
     full = np.where(wet_width >= 0.5 * width, width, 0.0)  # wetted panels (edge slivers left out)
-    beside = np.maximum(np.concatenate([[0.0], full[:-1]]), np.concatenate([full[1:], [0.0]]))
+    beside = np.maximum(np.r_[0.0, full[:-1]], np.r_[full[1:], 0.0])
     typical = float(np.median(full[full > 0])) if np.any(full > 0) else 0.0
     wide = (full > cfg.wide_panel_ratio * np.maximum(beside, typical)) & (beside > 0)
-    wide &= width > surface / cfg.min_wet_stations
-    for j in np.flatnonzero(wide).tolist():
-        found.setdefault(
-            j,
-            (
-                f"it is {width[j] / beside[j]:.1f} times as wide as the panels beside it "
-                f"(common practice: 20 or more stations across the water)",
-                float(0.5 * (x[j] + x[j + 1])),
-            ),
+    for j in np.flatnonzero(wide & (width > wet_width.sum() / cfg.min_wet_stations)).tolist():
+        why.setdefault(j, []).append(
+            f"it is {width[j] / beside[j]:.1f} times as wide as the panels beside it (common "
+            "practice: 20 or more stations across the water)"
         )
     miss, bend = _break_miss(x, z, stage)
-    area = float(np.sum(wet_width * mean_depth))
+    panel_area = wet_width * mean_depth
     with np.errstate(invalid="ignore"):
-        bad = np.flatnonzero(miss > cfg.break_area_share * area)
-    for j in bad.tolist():
-        found.setdefault(
+        bad = (miss > cfg.break_area_share * panel_area) & (
+            miss > cfg.break_min_share * panel_area.sum()
+        )
+    for j in np.flatnonzero(bad).tolist():
+        add_at[j] = float(bend[j])
+        why.setdefault(j, []).append(
+            f"it spans a slope break: straight ground across it may be out by about "
+            f"{_len(miss[j], unit + '²')}, {100 * miss[j] / panel_area[j]:.0f} % of its area "
+            f"(USBR practice: within {100 * cfg.break_area_share:.0f} %)"
+        )
+    return [
+        Finding(
+            "gap",
+            "warn",
+            float(x[j]),
+            f"the panel from {_at(x[j], unit)} to {_at(x[j + 1], unit)} "
+            f"({_len(width[j], unit, 2)} wide) is too wide: {'; '.join(reasons)}",
+            f"add a station at {_new_station(add_at.get(j, middle[j]), unit)}",
             j,
-            (
-                f"it spans a slope break: straight ground across it may be out by about "
-                f"{_len(miss[j], cfg.unit + '²', 3)} ({100 * miss[j] / area:.0f} % of the wetted "
-                f"area; USBR practice: within {100 * cfg.break_area_share:.0f} %)",
-                float(bend[j]),
-            ),
         )
-    out = []
-    for j, (why, at) in sorted(found.items()):
-        unit = cfg.unit
-        out.append(
-            Finding(
-                "gap",
-                "warn",
-                float(x[j]),
-                f"the panel from {_at(x[j], unit)} to {_at(x[j + 1], unit)} "
-                f"({_len(width[j], unit, 2)} wide) is too wide: {why}",
-                f"add a station at {_new_station(at, unit)}",
-                j,
-            )
-        )
-    return out
+        for j, reasons in sorted(why.items())
+    ]
 
 
 # ---------------------------------------------------------------------------- line and closure
