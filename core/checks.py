@@ -55,6 +55,8 @@ KINDS = ("order", "duplicate", "overtopped", "spike", "gap", "sparse", "edge", "
 BREAK_CODES = frozenset({"bank_top", "toe", "break", "bench", "face", "undercut", "wall"})
 """Feature codes that mark a slope break: the ground may turn there at any angle."""
 
+_BREAKS = np.array(sorted(BREAK_CODES), dtype=object)
+
 FACE_CODES = frozenset({"bank_top", "toe", "face", "undercut", "wall"})
 """Feature codes that mark a vertical face: two readings at one such station are expected."""
 
@@ -234,13 +236,14 @@ def _inputs(stations, elevations, codes, readings):
         if bad.size:
             i = int(bad[0])
             raise SectionError(f"point {i + 1}: {name} {arr[i]} is not a finite number", index=i)
-    if codes is None:
-        codes = [""] * x.size
-    codes = [str(c or "").strip().lower() for c in codes]
+    codes = [""] * x.size if codes is None else [str(c or "").strip().lower() for c in codes]
     if len(codes) != x.size:
         raise SectionError(f"{len(codes)} feature codes for {x.size} stations: give one each")
     if readings is not None:
-        readings = np.array([np.nan if r is None or r == "" else r for r in readings], dtype=float)
+        try:
+            readings = np.asarray(readings, dtype=float)
+        except (TypeError, ValueError):  # None or "" for a reading not recorded
+            readings = [np.nan if r is None or r == "" else r for r in readings]
         readings = _as_array(readings, "readings", x.size)
     return x, z, codes, readings
 
@@ -389,31 +392,22 @@ _LEVEL_GRADE = (
 
 
 def _left_line(x: np.ndarray, z: np.ndarray):
-    """Each elevation predicted by the line fitted through the points just left of it.
+    """Each elevation predicted by the line through the two points just left of it (i-2, i-1).
 
-    Through the two points i-2, i-1 (kept general: k points by least squares);
-    none where the line would reach more than ``_MAX_REACH`` times its own length.  Returns
-    prediction, noise gain and slope arrays (NaN where unavailable).
+    None where the line would reach more than ``_MAX_REACH`` times its own length, or the two
+    points share a station.  Returns prediction, noise gain and slope arrays (NaN where none).
     """
-    n = x.size
-    pred, gain, slope = (np.full(n, np.nan) for _ in range(3))
+    pred, gain, slope = (np.full(x.size, np.nan) for _ in range(3))
+    if x.size < 3:
+        return pred, gain, slope
+    base, reach = x[1:-1] - x[:-2], x[2:] - x[1:-1]
     with np.errstate(divide="ignore", invalid="ignore"):
-        for k in (2,):
-            if n <= k:
-                continue
-            pts_x = np.stack([x[j : n - k + j] for j in range(k)])  # columns: targets i = k .. n-1
-            pts_z = np.stack([z[j : n - k + j] for j in range(k)])
-            target = x[k:]
-            mean_x, mean_z = pts_x.mean(axis=0), pts_z.mean(axis=0)
-            sxx = np.sum((pts_x - mean_x) ** 2, axis=0)
-            b = np.sum((pts_x - mean_x) * (pts_z - mean_z), axis=0) / sxx
-            weights = 1.0 / k + (pts_x - mean_x) * (target - mean_x) / sxx
-            reach = (target - pts_x[-1]) / (pts_x[-1] - pts_x[0])
-            ok = np.all(np.diff(pts_x, axis=0) > 0, axis=0) & (target > pts_x[-1])
-            ok &= reach <= _MAX_REACH
-            pred[k:] = np.where(ok, mean_z + b * (target - mean_x), pred[k:])
-            gain[k:] = np.where(ok, np.sqrt(1 + np.sum(weights**2, axis=0)), gain[k:])
-            slope[k:] = np.where(ok, b, slope[k:])
+        r = reach / base
+        grade = (z[1:-1] - z[:-2]) / base
+    ok = (base > 0) & (reach > 0) & (r <= _MAX_REACH)
+    pred[2:] = np.where(ok, z[1:-1] + grade * reach, np.nan)
+    gain[2:] = np.sqrt(1 + (1 + r) ** 2 + r**2)  # weights 1 + r and -r on the two points
+    slope[2:] = grade
     return pred, gain, slope
 
 
@@ -497,7 +491,7 @@ def spike_scores(stations, elevations, codes=None, settings: CheckSettings | Non
     """
     cfg = settings or CheckSettings()
     x, z = np.asarray(stations, dtype=float), np.asarray(elevations, dtype=float)
-    breaks = None if codes is None else np.array([c in BREAK_CODES for c in codes], dtype=bool)
+    breaks = None if codes is None else np.isin(np.asarray(codes, dtype=object), _BREAKS)
     pred, gain, slope, allow = _predictions(x, z, breaks)
     miss = z - pred
     spread = _robust_spread(miss[0], gain[0], 0.5 * cfg.reading_precision)
@@ -539,15 +533,15 @@ def spike_findings(
     x, z = np.asarray(stations, dtype=float), np.asarray(elevations, dtype=float)
     if x.size < 3:
         return []
-    codes = list(codes) if codes is not None else [""] * x.size
-    need = np.where([bool(c) for c in codes], cfg.spike_coded_factor, 1.0)
-    score, miss, expected = spike_scores(x, z, codes, cfg)
+    codes = np.asarray(list(codes) if codes is not None else [""] * x.size, dtype=object)
+    need = np.where(codes != "", cfg.spike_coded_factor, 1.0)
+    score, miss, expected = np.zeros(x.size), np.zeros(x.size), np.full(x.size, np.nan)
     keep = np.ones(x.size, dtype=bool)
     flagged: list[int] = []
     # worst first, then again without it: a spike also throws its neighbours' predictions out
     while len(flagged) < max(x.size // 5, 1):
         where = np.flatnonzero(keep)
-        sc, ms, ex = spike_scores(x[keep], z[keep], [codes[k] for k in where], cfg)
+        sc, ms, ex = spike_scores(x[keep], z[keep], codes[keep], cfg)
         over = (sc >= need[keep]) & (np.abs(ms) >= cfg.spike_floor)
         if not over.any() or where.size < 4:
             break
