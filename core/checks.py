@@ -118,9 +118,12 @@ class CheckSettings:
     """Tolerances of the checks; lengths in ``unit``.  Build with :meth:`for_unit`.
 
     - ``reading_precision``, ``station_precision``: the crew's precision (survey unit).
-    - ``spike_score``: how many robust standard deviations (1.4826 x median absolute deviation of
-      the local shape residuals) a reading must be out of line with every neighbour-based
-      prediction; ``spike_floor``: and by at least this much (survey unit).
+    - ``spike_score``, ``spike_side_score``: how many robust standard deviations (1.4826 x median
+      absolute deviation of the chord residuals) a reading must be off the chord between its
+      neighbours, and off the lines through the two points on either side (see
+      :func:`spike_scores`); ``spike_coded_factor``: how much more a feature station needs;
+      ``spike_floor`` (survey unit) and ``spike_depth_share`` (of the section's depth): the least
+      miss that is flagged.
     - ``min_wet_stations``: fewest stations across the water (common practice: 20 or more).
     - ``max_panel_share``: largest share of the flow in one panel, by the depth^(5/3) x width
       proxy (USGS: no partial section over 10 %, ideally 5 %; Rantz 1982, WSP 2175; Turnipseed &
@@ -145,6 +148,7 @@ class CheckSettings:
     spike_score: float = 4.5
     spike_side_score: float = 1.5
     spike_coded_factor: float = 1.5
+    spike_depth_share: float = 0.05
     spike_floor: float = 0.02
     min_wet_stations: int = 20
     max_panel_share: float = 0.10
@@ -525,8 +529,10 @@ def spike_findings(
 ) -> list[Finding]:
     """``spike`` findings (stations sorted, survey unit); see :func:`spike_scores` for the method.
 
-    A reading is flagged when its score reaches 1 and it is off by at least
-    ``settings.spike_floor``; it blocks when off by twice both.  Feature stations (any code) need
+    A reading is flagged when its score reaches 1 and it is off by at least ``spike_floor`` and
+    ``spike_depth_share`` of the section's depth (lower end minus lowest point): bank-top lips
+    and cobbles a few percent of the depth high are ground, not mistakes.  It blocks when off by
+    twice both.  Feature stations (any code) need
     half as much again, since the crew chose those points for their shape.
     """
     cfg = settings or CheckSettings()
@@ -535,6 +541,8 @@ def spike_findings(
         return []
     codes = np.asarray(list(codes) if codes is not None else [""] * x.size, dtype=object)
     need = np.where(codes != "", cfg.spike_coded_factor, 1.0)
+    depth = min(z[0], z[-1]) - z.min()  # deepest water the section holds
+    floor = max(cfg.spike_floor, cfg.spike_depth_share * (depth if depth > 0 else np.ptp(z)))
     score, miss, expected = np.zeros(x.size), np.zeros(x.size), np.full(x.size, np.nan)
     keep = np.ones(x.size, dtype=bool)
     flagged: list[int] = []
@@ -542,7 +550,7 @@ def spike_findings(
     while len(flagged) < max(x.size // 5, 1):
         where = np.flatnonzero(keep)
         sc, ms, ex = spike_scores(x[keep], z[keep], codes[keep], cfg)
-        over = (sc >= need[keep]) & (np.abs(ms) >= cfg.spike_floor)
+        over = (sc >= need[keep]) & (np.abs(ms) >= floor)
         if not over.any() or where.size < 4:
             break
         k = int(np.argmax(np.where(over, sc / need[keep], -1.0)))
@@ -553,7 +561,7 @@ def spike_findings(
     out = []
     unit = cfg.unit
     for i in sorted(flagged):
-        far = score[i] >= 2 * need[i] and abs(miss[i]) >= 2 * cfg.spike_floor
+        far = score[i] >= 2 * need[i] and abs(miss[i]) >= 2 * floor
         way = "high" if miss[i] > 0 else "low"
         hint = f"elevation near {_len(expected[i], unit)}"
         if readings is not None and np.isfinite(readings[i]):
@@ -635,8 +643,10 @@ def edge_findings(stations, elevations, stage: float, settings=None) -> list[Fin
     out = []
     for j in np.flatnonzero(np.isfinite(edge)).tolist():
         gap = min(edge[j] - x[j], x[j + 1] - edge[j])
-        if gap <= cfg.edge_distance or stage - min(z[j], z[j + 1]) <= 2 * cfg.reading_precision:
-            continue  # near a station, or water too thin to read: the edge is as good as read
+        thin = stage - min(z[j], z[j + 1]) <= 2 * cfg.reading_precision
+        brim = max(z[j], z[j + 1]) - stage <= 2 * cfg.reading_precision
+        if gap <= cfg.edge_distance or thin or brim:
+            continue  # near a station, or water or bank within reading of the water level
         side = "left" if z[j] > z[j + 1] else "right"
         unit = cfg.unit
         out.append(
