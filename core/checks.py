@@ -128,8 +128,9 @@ class CheckSettings:
     - ``max_panel_share``: largest share of the flow in one panel, by the depth^(5/3) x width
       proxy (USGS: no partial section over 10 %, ideally 5 %; Rantz 1982, WSP 2175; Turnipseed &
       Sauer 2010, TM 3-A8; from memory).
-    - ``wide_panel_ratio``: a wetted panel wider than this times the median wetted panel (and
-      wider than 1/``min_wet_stations`` of the water width) is a gap.
+    - ``wide_panel_ratio``: a wetted panel wider than this times the wider of its neighbours
+      and of the median wetted panel (and wider than 1/``min_wet_stations`` of the water
+      width) is a gap.
     - ``break_area_share``: largest area the straight line across a panel may miss at a slope
       break, as a share of the panel's wetted area (USBR Water Measurement Manual ch. 10: 3 %);
       ``break_min_share``: and the least, as a share of the whole wetted area, worth a finding
@@ -815,44 +816,57 @@ def _number(meta: Mapping, key: str) -> float | None:
     return number
 
 
-def line_findings(meta: Mapping, settings=None) -> list[Finding]:
-    """``line`` findings: stake line heights against the crew's level check (survey unit).
+def _line_at(meta: Mapping, stations) -> np.ndarray | None:
+    """Elevation of the level line at ``stations`` (survey unit), or None without line heights.
 
-    ``meta`` keys: ``line_left``, ``line_right`` (line heights recorded at the stakes),
-    ``line_check`` (the line's height found by the level check) and optionally
-    ``line_check_station`` (where it was taken; the line is straight between the stakes, whose
-    stations are ``left_station`` and ``right_station``, default 0 and ``right_station``).  Without a
-    station the check is of a level line: both stake heights must agree with it.
+    As the store reduces readings: straight between the stakes (at 0 and ``stake_distance``,
+    from the ``origin`` stake) when their heights differ and the distance is known, else their
+    mean.
+    """
+    left, right = _number(meta, "line_left"), _number(meta, "line_right")
+    if left is None and right is None:
+        return None
+    left = right if left is None else left
+    right = left if right is None else right
+    x = np.asarray(stations, dtype=float)
+    distance = _number(meta, "stake_distance")
+    if left == right or not distance:
+        return np.full(x.shape, 0.5 * (left + right))
+    at_left, at_right = (0.0, distance) if meta.get("origin", "left") == "left" else (distance, 0.0)
+    return left + (right - left) * (x - at_left) / (at_right - at_left)
+
+
+def line_findings(meta: Mapping, settings=None) -> list[Finding]:
+    """``line`` findings: the line heights at the stakes against the crew's level check.
+
+    ``meta`` keys (survey unit): ``line_left``, ``line_right`` (line heights recorded at the
+    stakes), ``line_check`` (the line's height found by the level check) and optionally
+    ``line_check_station`` (where the check was taken; the line is straight between the stakes,
+    see ``stake_distance`` and ``origin``).  Without a station the line is meant to be level and
+    each stake's height must agree with the check within ``settings.line_tolerance``.
     """
     cfg = settings or CheckSettings()
     left, right = _number(meta, "line_left"), _number(meta, "line_right")
     check = _number(meta, "line_check")
     if check is None or (left is None and right is None):
         return []
-    unit, tol = cfg.unit, cfg.line_tolerance
     at = _number(meta, "line_check_station")
-    if at is not None and left is not None and right is not None:
-        x0 = _number(meta, "left_station") or 0.0
-        x1 = _number(meta, "right_station")
-        if x1 is not None and x1 != x0:
-            expected = left + (right - left) * (at - x0) / (x1 - x0)
-            ends = [(f"the line at {_at(at, unit)}", expected)]
-        else:
-            ends = [("the left stake", left), ("the right stake", right)]
+    if at is not None:
+        ends = [(f"the line at {_at(at, cfg.unit)}", float(_line_at(meta, at)))]
     else:
         ends = [(n, v) for n, v in (("the left stake", left), ("the right stake", right)) if v]
     out = []
     for name, height in ends:
         off = height - check
-        if abs(off) > tol:
+        if abs(off) > cfg.line_tolerance:
             out.append(
                 Finding(
                     "line",
                     "block",
                     None,
-                    f"the line height at {name} ({_len(height, unit)}) differs from the level "
-                    f"check ({_len(check, unit)}) by {_len(abs(off), unit)}; tolerance "
-                    f"{_len(tol, unit)}",
+                    f"the line height at {name} ({_len(height, cfg.unit)}) differs from the level "
+                    f"check ({_len(check, cfg.unit)}) by {_len(abs(off), cfg.unit)}; tolerance "
+                    f"{_len(cfg.line_tolerance, cfg.unit)}",
                     f"re-level the line at {name.removeprefix('the ')} (check it has not "
                     "slipped or sagged), then re-enter its height",
                 )
@@ -883,36 +897,31 @@ def reading_findings(stations, readings, elevations=None, meta=None, settings=No
                 i,
             )
         )
-    if longest is not None:
-        for i in np.flatnonzero(r > longest).tolist():
-            out.append(
-                Finding(
-                    "line",
-                    "block",
-                    float(x[i]),
-                    f"the reading at station {_at(x[i], unit)} ({_len(r[i], unit)}) is longer "
-                    f"than the {tool} ({_len(longest, unit)})",
-                    f"re-read station {_at(x[i], unit)} (a digit typed twice or missed?)",
-                    i,
-                )
+    for i in np.flatnonzero(r > longest).tolist() if longest is not None else []:
+        out.append(
+            Finding(
+                "line",
+                "block",
+                float(x[i]),
+                f"the reading at station {_at(x[i], unit)} ({_len(r[i], unit)}) is longer "
+                f"than the {tool} ({_len(longest, unit)})",
+                f"re-read station {_at(x[i], unit)} (a digit typed twice or missed?)",
+                i,
             )
-    left, right = _number(meta, "line_left"), _number(meta, "line_right")
-    if elevations is None or left is None or right is None or tool == "rod" or x.size < 2:
+        )
+    line = None if elevations is None or tool == "rod" else _line_at(meta, x)
+    if line is None:
         return out
-    x0 = _number(meta, "left_station")
-    x1 = _number(meta, "right_station")
-    x0 = float(x.min()) if x0 is None else x0
-    x1 = float(x.max()) if x1 is None else x1
-    line = left + (right - left) * (x - x0) / (x1 - x0) if x1 != x0 else np.full(x.size, left)
-    off = np.asarray(elevations, dtype=float) - (line - r)
+    expected = line - r
+    off = np.asarray(elevations, dtype=float) - expected
     for i in np.flatnonzero(np.abs(off) > cfg.reading_precision).tolist():
         out.append(
             Finding(
                 "line",
                 "warn",
                 float(x[i]),
-                f"at station {_at(x[i], unit)} the elevation {_len(off[i] + line[i] - r[i], unit)} "
-                f"is not line height minus reading ({_len(line[i] - r[i], unit)})",
+                f"at station {_at(x[i], unit)} the elevation {_len(off[i] + expected[i], unit)} "
+                f"is not line height minus reading ({_len(expected[i], unit)})",
                 f"re-enter station {_at(x[i], unit)} so that reading and elevation agree",
                 i,
             )
@@ -998,8 +1007,9 @@ def review(
     or repeat, that is what the order and duplicate checks look for.  ``stage``: water level
     (elevation) during the survey, or ``None`` to skip the checks that need water.  ``meta``: the
     visit's details (``unit``, ``method`` "line" or "rod", ``line_left``, ``line_right``,
-    ``line_check``, ``line_check_station``, ``plumb_length``, ``backsights``, ``foresights``,
-    ``misclosure``, ``loop_length``; other keys ignored, so a visit record can be passed as is).
+    ``line_check``, ``line_check_station``, ``stake_distance``, ``origin``, ``plumb_length``,
+    ``backsights``, ``foresights``, ``misclosure``, ``loop_length``; other keys are ignored, so
+    a visit record can be passed as it is).
     ``codes``: feature code of each point ("bank_top", "toe", "water_edge", "deepest", "bar" ...).
     ``readings``: raw reading of each point (``None`` or NaN when unknown).  ``settings``: a
     :class:`CheckSettings`, or a dict of overrides of the defaults for the survey's unit.

@@ -316,6 +316,21 @@ def test_line_heights_against_level_check():
     assert loud(run(section, meta=meta), "line") == []
 
 
+def test_sloping_line_checked_where_the_level_was_read():
+    # line straight between the stakes: 101.20 at the origin (left) stake, 101.30 at 10 m
+    meta = {"line_left": 101.2, "line_right": 101.3, "stake_distance": 10.0, "origin": "left"}
+    good = dict(meta, line_check=101.2 + 0.1 * 4.0 / 10.0, line_check_station=4.0)
+    assert review([0, 1], [100, 100], meta=good) == []
+    off = dict(good, line_check=101.26)  # 20 mm above the line at 4 m
+    found = review([0, 1], [100, 100], meta=off)
+    assert [f.kind for f in found] == ["line"] and "0.020 m" in found[0].message
+    # elevations reduced from that line agree with the readings: no finding
+    x = np.array([0.0, 2.5, 5.0, 7.5, 10.0])
+    readings = np.array([0.5, 1.0, 1.2, 1.0, 0.6])
+    elevations = 101.2 + 0.01 * x - readings
+    assert review(x, elevations, meta=meta, readings=readings) == []
+
+
 def test_negative_and_too_long_readings():
     x = np.arange(0.0, 6.0, 0.5)
     readings = np.full(x.size, 1.0)
