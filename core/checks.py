@@ -909,8 +909,10 @@ def reading_findings(stations, readings, elevations=None, meta=None, settings=No
                 i,
             )
         )
-    line = None if elevations is None or tool == "rod" else _line_at(meta, x)
-    if line is None:
+    left, right = _number(meta, "line_left"), _number(meta, "line_right")
+    sloped = None not in (left, right) and left != right and not _number(meta, "stake_distance")
+    line = None if elevations is None or tool == "rod" or sloped else _line_at(meta, x)
+    if line is None:  # a sloping line with no stake distance: how it was reduced is not known
         return out
     expected = line - r
     off = np.asarray(elevations, dtype=float) - expected
