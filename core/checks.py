@@ -29,7 +29,7 @@ survey's one unit (``"m"`` or ``"ft"``), which also picks the default tolerances
 
 >>> found = review(range(11), [2.0, 1.6, 1.3, 1.1, 1.0, 1.6, 1.0, 1.1, 1.3, 1.6, 2.0])
 >>> [(f.kind, f.severity, f.station) for f in found]
-[('spike', 'warn', 5.0)]
+[('spike', 'block', 5.0)]
 >>> review([0, 1, 2, 3, 4], [2.0, 1.0, 0.5, 1.0, 2.0], stage=2.2)[0].kind
 'overtopped'
 """
@@ -67,7 +67,8 @@ class Finding:
 
     ``station`` is in the survey unit (``None`` for the whole survey, e.g. a level-loop closure);
     ``index`` is the 0-based position of the point in the sequence as entered (``None`` when the
-    finding is not about one entered point).
+    finding is not about one entered point); ``also`` the positions of other points that may be
+    the one at fault (named in the suggestion: re-read them next).
     """
 
     kind: str
@@ -76,6 +77,7 @@ class Finding:
     message: str
     suggestion: str
     index: int | None = None
+    also: tuple[int, ...] = ()
 
     def as_dict(self) -> dict:
         """Plain dict with keys ``kind``, ``severity``, ``station``, ``message``, ``suggestion``."""
@@ -146,8 +148,8 @@ class CheckSettings:
     unit: str = "m"
     reading_precision: float = 0.005
     station_precision: float = 0.01
-    spike_score: float = 4.5
-    spike_side_score: float = 1.5
+    spike_score: float = 4.0
+    spike_side_score: float = 1.25
     spike_coded_factor: float = 1.5
     spike_depth_share: float = 0.05
     spike_floor: float = 0.02
@@ -533,8 +535,9 @@ def spike_findings(
     A reading is flagged when its score reaches 1 and it is off by at least ``spike_floor`` and
     ``spike_depth_share`` of the section's depth (lower end minus lowest point): bank-top lips
     and cobbles a few percent of the depth high are ground, not mistakes.  It blocks when off by
-    twice both.  Feature stations (any code) need
-    half as much again, since the crew chose those points for their shape.
+    twice both.  Feature stations (any code) need half as much again, since the crew chose those
+    points for their shape.  Where a neighbour could as well be the wrong one, the suggestion
+    names it too (``Finding.also``).
     """
     cfg = settings or CheckSettings()
     x, z = np.asarray(stations, dtype=float), np.asarray(elevations, dtype=float)
@@ -567,6 +570,8 @@ def spike_findings(
         hint = f"elevation near {_len(expected[i], unit)}"
         if readings is not None and np.isfinite(readings[i]):
             hint += f", reading near {_len(readings[i] + miss[i], unit)}"
+        also = _either_of_two(x, z, codes, keep, i, need, floor, cfg)
+        then = "".join(f"; if it reads the same, re-read station {_at(x[j], unit)}" for j in also)
         out.append(
             Finding(
                 "spike",
@@ -575,12 +580,34 @@ def spike_findings(
                 f"the reading at station {_at(x[i], unit)} is {_len(abs(miss[i]), unit)} too {way} "
                 f"for the ground either side (elevation {_len(z[i], unit)}; the neighbours point "
                 f"to about {_len(expected[i], unit)})",
-                f"re-read station {_at(x[i], unit)} ({hint}); if the ground really is like that "
-                "(a boulder, a hole), add a station either side and note it",
+                f"re-read station {_at(x[i], unit)} ({hint}){then}; if the ground really is like "
+                "that (a boulder, a hole), add a station either side and note it",
                 i,
+                also,
             )
         )
     return out
+
+
+def _either_of_two(x, z, codes, keep, i, need, floor, cfg) -> tuple[int, ...]:
+    """Neighbours of flagged point ``i`` whose removal would clear it: either may be wrong.
+
+    Near an end or a vertical face a point has few neighbours to be judged by, and one wrong
+    reading makes its neighbour look wrong too (a stake and the bank top beside it).
+    """
+    kept = np.flatnonzero(keep)
+    at = np.searchsorted(kept, i)
+    out = []
+    for j in (kept[at - 1] if at > 0 else -1, kept[at] if at < kept.size else -1):
+        if j < 0 or x[j] == x[i]:
+            continue
+        mask = keep.copy()
+        mask[[i, j]] = True, False
+        sc, ms, _ = spike_scores(x[mask], z[mask], codes[mask], cfg)
+        k = int(np.searchsorted(np.flatnonzero(mask), i))
+        if sc[k] < need[i] or abs(ms[k]) < floor:
+            out.append(int(j))
+    return tuple(out)
 
 
 # ---------------------------------------------------------------------------------------- water
@@ -1045,7 +1072,9 @@ def review(
             inner += edge_findings(xs, zs, stage, cfg)
             inner += gap_findings(xs, zs, stage, cfg)
     for f in inner:
-        out.append(f if f.index is None else replace(f, index=int(order[f.index])))
+        if f.index is not None:
+            f = replace(f, index=int(order[f.index]), also=tuple(int(order[j]) for j in f.also))
+        out.append(f)
     return _sorted(out)
 
 
