@@ -393,9 +393,8 @@ def duplicate_findings(
 
 # ---------------------------------------------------------------------------------------- spike
 _MAX_REACH = 3.0  # an extrapolation reaching over 3x its own baseline carries no information
-_LEVEL_GRADE = (
-    0.05  # "about level": ground assumed within 1 in 20 where only one neighbour is known
-)
+_LEVEL_GRADE = 0.05  # "about level": within 1 in 20, where only one neighbour is known
+_MOST_SPIKES = 25  # beyond that the points are hardly a surveyed section: stop looking
 
 
 def _left_line(x: np.ndarray, z: np.ndarray):
@@ -551,7 +550,7 @@ def spike_findings(
     keep = np.ones(x.size, dtype=bool)
     flagged: list[int] = []
     # worst first, then again without it: a spike also throws its neighbours' predictions out
-    while len(flagged) < max(x.size // 5, 1):
+    while len(flagged) < min(max(x.size // 5, 1), _MOST_SPIKES):
         where = np.flatnonzero(keep)
         sc, ms, ex = spike_scores(x[keep], z[keep], codes[keep], cfg)
         over = (sc >= need[keep]) & (np.abs(ms) >= floor)

@@ -198,6 +198,27 @@ def test_spike_rates_on_generated_sections():
     assert found >= 36
 
 
+def test_stake_or_bank_top_either_may_be_wrong():
+    # floodplain read only at the stake and the bank top: a wrong stake reading makes the bank
+    # top look wrong too, so the finding names both stations to re-read
+    x, z = surveyed(TRAPEZOID, 1.4, 0.5)
+    keep = x != 0.5  # the floodplain read at the stake (0 m) and the bank top (1 m) only
+    x, z = x[keep], z[keep]
+    z[0] -= 0.6
+    found = loud(review(x, z, stage=1.4), "spike")
+    assert len(found) == 1
+    named = {found[0].index, *found[0].also}
+    assert 0 in named
+    for i in named:
+        assert f"re-read station {round(float(x[i]), 2):g} m" in found[0].suggestion
+
+
+@pytest.mark.parametrize("seed", range(10))
+def test_natural_sections_in_feet_raise_no_block_or_warn(seed):
+    section = natural_section(np.random.default_rng(300 + seed), unit="ft")
+    assert loud(run(section)) == [], section.shape
+
+
 # --- order and duplicate -------------------------------------------------------------------------
 def test_station_typed_wrong_is_out_of_order_and_names_the_fitting_range():
     section = natural_section(np.random.default_rng(7))
