@@ -347,47 +347,36 @@ def duplicate_findings(
     cfg = settings or CheckSettings()
     x, z = np.asarray(stations, dtype=float), np.asarray(elevations, dtype=float)
     codes = list(codes) if codes is not None else [""] * x.size
-    same = np.flatnonzero(np.diff(x) == 0)
     out = []
-    for i in same.tolist():
-        j = i + 1
-        unit = cfg.unit
-        at = _at(x[i], unit)
-        step = z[j] - z[i]
+    for i in np.flatnonzero(np.diff(x) == 0).tolist():
+        j, unit = i + 1, cfg.unit
+        at, step = _at(x[i], unit), z[i + 1] - z[i]
+        both = f"{_len(z[i], unit)} and {_len(z[j], unit)}"
         if abs(step) <= 2 * cfg.reading_precision:
+            message = f"station {at} was entered twice with the same reading ({both})"
+            todo = f"delete one of the two entries at {at}, then check that the next station "
             out.append(
-                Finding(
-                    "duplicate",
-                    "warn",
-                    float(x[i]),
-                    f"station {at} was entered twice with the same reading "
-                    f"({_len(z[i], unit)} and {_len(z[j], unit)})",
-                    f"delete one of the two entries at {at}, then check that the next station "
-                    "was not skipped",
-                    j,
-                )
+                Finding("duplicate", "warn", float(x[i]), message, todo + "was not skipped", j)
             )
-            continue
-        if codes[i] in FACE_CODES or codes[j] in FACE_CODES:
             continue
         left = z[i - 1] if i > 0 and x[i - 1] < x[i] else z[i]
         right = z[j + 1] if j + 1 < x.size and x[j + 1] > x[j] else z[j]
-        outer = right - left
-        if outer * step > 0 and abs(outer) >= 0.5 * abs(step):
-            continue  # the ground either side steps the same way: a vertical face
-        out.append(
-            Finding(
-                "duplicate",
-                "block",
-                float(x[i]),
-                f"station {at} has two readings {_len(abs(step), unit)} apart "
-                f"(elevations {_len(z[i], unit)} and {_len(z[j], unit)}) but the ground either "
-                "side shows no vertical face",
-                f"re-read station {at} and delete the wrong entry; if it is a wall or cut bank, "
-                "code the two points as bank top and toe",
-                j,
-            )
+        outer = right - left  # a face: the ground either side steps the same way
+        if (
+            codes[i] in FACE_CODES
+            or codes[j] in FACE_CODES
+            or (outer * step > 0 and abs(outer) >= 0.5 * abs(step))
+        ):
+            continue
+        message = (
+            f"station {at} has two readings {_len(abs(step), unit)} apart (elevations {both}) "
+            "but the ground either side shows no vertical face"
         )
+        todo = (
+            f"re-read station {at} and delete the wrong entry; if it is a wall or cut bank, code "
+            "the two points as bank top and toe"
+        )
+        out.append(Finding("duplicate", "block", float(x[i]), message, todo, j))
     return out
 
 
@@ -546,21 +535,7 @@ def spike_findings(
     need = np.where(codes != "", cfg.spike_coded_factor, 1.0)
     depth = min(z[0], z[-1]) - z.min()  # deepest water the section holds
     floor = max(cfg.spike_floor, cfg.spike_depth_share * (depth if depth > 0 else np.ptp(z)))
-    score, miss, expected = np.zeros(x.size), np.zeros(x.size), np.full(x.size, np.nan)
-    keep = np.ones(x.size, dtype=bool)
-    flagged: list[int] = []
-    # worst first, then again without it: a spike also throws its neighbours' predictions out
-    while len(flagged) < min(max(x.size // 5, 1), _MOST_SPIKES):
-        where = np.flatnonzero(keep)
-        sc, ms, ex = spike_scores(x[keep], z[keep], codes[keep], cfg)
-        over = (sc >= need[keep]) & (np.abs(ms) >= floor)
-        if not over.any() or where.size < 4:
-            break
-        k = int(np.argmax(np.where(over, sc / need[keep], -1.0)))
-        i = int(where[k])
-        score[i], miss[i], expected[i] = sc[k], ms[k], ex[k]
-        flagged.append(i)
-        keep[i] = False
+    flagged, keep, score, miss, expected = _worst_first(x, z, codes, need, floor, cfg)
     out = []
     unit = cfg.unit
     for i in sorted(flagged):
@@ -586,6 +561,27 @@ def spike_findings(
             )
         )
     return out
+
+
+def _worst_first(x, z, codes, need, floor, cfg):
+    """Spikes found one at a time, worst first, each left out before looking again (a spike
+    throws its neighbours' predictions out too).  Returns the flagged indices, the mask of the
+    points left, and score, miss and expected value of each flagged point."""
+    score, miss, expected = np.zeros(x.size), np.zeros(x.size), np.full(x.size, np.nan)
+    keep = np.ones(x.size, dtype=bool)
+    flagged: list[int] = []
+    while len(flagged) < min(max(x.size // 5, 1), _MOST_SPIKES):
+        where = np.flatnonzero(keep)
+        sc, ms, ex = spike_scores(x[keep], z[keep], codes[keep], cfg)
+        over = (sc >= need[keep]) & (np.abs(ms) >= floor)
+        if not over.any() or where.size < 4:
+            break
+        k = int(np.argmax(np.where(over, sc / need[keep], -1.0)))
+        i = int(where[k])
+        score[i], miss[i], expected[i] = sc[k], ms[k], ex[k]
+        flagged.append(i)
+        keep[i] = False
+    return flagged, keep, score, miss, expected
 
 
 def _either_of_two(x, z, codes, keep, i, need, floor, cfg) -> tuple[int, ...]:
@@ -768,64 +764,85 @@ def gap_findings(stations, elevations, stage: float, settings=None) -> list[Find
       depth^(5/3) x width as the share proxy (Manning's equation at one slope and roughness);
       USGS discharge-measurement practice asks that no partial section carry more than about
       10 %, ideally 5 % (Rantz 1982, WSP 2175; Turnipseed & Sauer 2010, TM 3-A8; from memory);
-    - wide panel: wider than ``wide_panel_ratio`` times the median wetted panel and wider than
-      1/``min_wet_stations`` of the water surface (common practice: 20 or more stations across);
+    - wide panel: wider than ``wide_panel_ratio`` times the wider of its neighbours and the
+      median wetted panel, and wider than 1/``min_wet_stations`` of the water surface (common
+      practice: 20 or more stations across);
     - slope break: the neighbouring segments, extended, meet inside the panel and the straight
       line may miss more than ``break_area_share`` of the panel's area (USBR Water Measurement
       Manual ch. 10: verticals so that straight lines between them are within 3 % in area) and
       more than ``break_min_share`` of the whole wetted area.
 
-    The suggestion names the station to add: the middle of the panel, or the likely break.
+    The suggestion names the station to add: the likely break, else the middle of the panel.
     """
     cfg = settings or CheckSettings()
     x, z = np.asarray(stations, dtype=float), np.asarray(elevations, dtype=float)
     wet_width, mean_depth, mean_f, _ = _wet_panels(x, z, stage)
-    flow = wet_width * mean_f
-    if flow.sum() <= 0:
+    if np.sum(wet_width * mean_f) <= 0:
         return []
-    unit, width, middle = cfg.unit, np.diff(x), 0.5 * (x[:-1] + x[1:])
     why: dict[int, list[str]] = {}
-    add_at = {}  # where to add a station: the likely break, else the middle of the panel
-    share = flow / flow.sum()
-    for j in np.flatnonzero(share > cfg.max_panel_share).tolist():
-        why.setdefault(j, []).append(
-            f"it carries about {100 * share[j]:.0f} % of the flow by the depth^(5/3) x width "
-            f"proxy (USGS practice: no panel over {100 * cfg.max_panel_share:.0f} %)"
-        )
-    full = np.where(wet_width >= 0.5 * width, width, 0.0)  # wetted panels (edge slivers left out)
-    beside = np.maximum(np.r_[0.0, full[:-1]], np.r_[full[1:], 0.0])
-    typical = float(np.median(full[full > 0])) if np.any(full > 0) else 0.0
-    wide = (full > cfg.wide_panel_ratio * np.maximum(beside, typical)) & (beside > 0)
-    for j in np.flatnonzero(wide & (width > wet_width.sum() / cfg.min_wet_stations)).tolist():
-        why.setdefault(j, []).append(
-            f"it is {width[j] / beside[j]:.1f} times as wide as the panels beside it (common "
-            "practice: 20 or more stations across the water)"
-        )
-    miss, bend = _break_miss(x, z, stage)
-    panel_area = wet_width * mean_depth
-    with np.errstate(invalid="ignore"):
-        bad = (miss > cfg.break_area_share * panel_area) & (
-            miss > cfg.break_min_share * panel_area.sum()
-        )
-    for j in np.flatnonzero(bad).tolist():
-        add_at[j] = float(bend[j])
-        why.setdefault(j, []).append(
-            f"it spans a slope break: straight ground across it may be out by about "
-            f"{_len(miss[j], unit + '²')}, {100 * miss[j] / panel_area[j]:.0f} % of its area "
-            f"(USBR practice: within {100 * cfg.break_area_share:.0f} %)"
-        )
+    for j, reason in _gap_reasons(x, wet_width, mean_f, cfg):
+        why.setdefault(j, []).append(reason)
+    add_at = {}  # the likely break, where there is one
+    for j, reason, at in _break_reasons(x, z, stage, wet_width * mean_depth, cfg):
+        why.setdefault(j, []).append(reason)
+        add_at[j] = at
+    unit = cfg.unit
     return [
         Finding(
             "gap",
             "warn",
             float(x[j]),
             f"the panel from {_at(x[j], unit)} to {_at(x[j + 1], unit)} "
-            f"({_len(width[j], unit, 2)} wide) is too wide: {'; '.join(reasons)}",
-            f"add a station at {_new_station(add_at.get(j, middle[j]), unit)}",
+            f"({_len(x[j + 1] - x[j], unit, 2)} wide) is too wide: {'; '.join(reasons)}",
+            f"add a station at {_new_station(add_at.get(j, 0.5 * (x[j] + x[j + 1])), unit)}",
             j,
         )
         for j, reasons in sorted(why.items())
     ]
+
+
+def _gap_reasons(x, wet_width, mean_f, cfg):
+    """(panel, reason) for the flow-share and wide-panel rules of :func:`gap_findings`."""
+    flow = wet_width * mean_f
+    share = flow / flow.sum()
+    for j in np.flatnonzero(share > cfg.max_panel_share).tolist():
+        yield (
+            j,
+            (
+                f"it carries about {100 * share[j]:.0f} % of the flow by the depth^(5/3) x width "
+                f"proxy (USGS practice: no panel over {100 * cfg.max_panel_share:.0f} %)"
+            ),
+        )
+    width = np.diff(x)
+    full = np.where(wet_width >= 0.5 * width, width, 0.0)  # wetted panels (edge slivers left out)
+    beside = np.maximum(np.r_[0.0, full[:-1]], np.r_[full[1:], 0.0])
+    typical = float(np.median(full[full > 0])) if np.any(full > 0) else 0.0
+    wide = (full > cfg.wide_panel_ratio * np.maximum(beside, typical)) & (beside > 0)
+    for j in np.flatnonzero(wide & (width > wet_width.sum() / cfg.min_wet_stations)).tolist():
+        yield (
+            j,
+            (
+                f"it is {width[j] / beside[j]:.1f} times as wide as the panels beside it (common "
+                "practice: 20 or more stations across the water)"
+            ),
+        )
+
+
+def _break_reasons(x, z, stage, panel_area, cfg):
+    """(panel, reason, station of the likely break) for the slope-break rule."""
+    miss, bend = _break_miss(x, z, stage)
+    with np.errstate(invalid="ignore"):
+        bad = (miss > cfg.break_area_share * panel_area) & (
+            miss > cfg.break_min_share * panel_area.sum()
+        )
+    for j in np.flatnonzero(bad).tolist():
+        yield (
+            j,
+            f"it spans a slope break: straight ground across it may be out by about "
+            f"{_len(miss[j], cfg.unit + '²')}, {100 * miss[j] / panel_area[j]:.0f} % of its area "
+            f"(USBR practice: within {100 * cfg.break_area_share:.0f} %)",
+            float(bend[j]),
+        )
 
 
 # ---------------------------------------------------------------------------- line and closure
@@ -904,36 +921,25 @@ def reading_findings(stations, readings, elevations=None, meta=None, settings=No
     """``line`` findings for readings no plumb (or rod) could give, and for elevations that are
     not line height minus reading (stations, readings, elevations in the survey unit; NaN for a
     reading not recorded)."""
-    cfg = settings or CheckSettings()
-    meta = meta or {}
+    cfg, meta = settings or CheckSettings(), meta or {}
     x, r = np.asarray(stations, dtype=float), np.asarray(readings, dtype=float)
     unit = cfg.unit
     tool = "rod" if meta.get("method") == "rod" else "plumb"
     longest = _number(meta, "plumb_length") or cfg.plumb_length
+    too_long = r > longest if longest is not None else np.zeros(r.size, dtype=bool)
     out = []
-    for i in np.flatnonzero(r < 0).tolist():
-        out.append(
-            Finding(
-                "line",
-                "block",
-                float(x[i]),
-                f"the reading at station {_at(x[i], unit)} is negative ({_len(r[i], unit)}); "
-                f"a {tool} reading cannot be",
-                f"re-read station {_at(x[i], unit)} (a sign typed by mistake, or the line lifted?)",
-                i,
+    for i in np.flatnonzero((r < 0) | too_long).tolist():
+        at, reading = _at(x[i], unit), _len(r[i], unit)
+        if r[i] < 0:
+            message = (
+                f"the reading at station {at} is negative ({reading}); a {tool} reading cannot be"
             )
-        )
-    for i in np.flatnonzero(r > longest).tolist() if longest is not None else []:
+            why = "a sign typed by mistake, or the line lifted?"
+        else:
+            message = f"the reading at station {at} ({reading}) is longer than the {tool} ({_len(longest, unit)})"
+            why = "a digit typed twice or missed?"
         out.append(
-            Finding(
-                "line",
-                "block",
-                float(x[i]),
-                f"the reading at station {_at(x[i], unit)} ({_len(r[i], unit)}) is longer "
-                f"than the {tool} ({_len(longest, unit)})",
-                f"re-read station {_at(x[i], unit)} (a digit typed twice or missed?)",
-                i,
-            )
+            Finding("line", "block", float(x[i]), message, f"re-read station {at} ({why})", i)
         )
     left, right = _number(meta, "line_left"), _number(meta, "line_right")
     sloped = None not in (left, right) and left != right and not _number(meta, "stake_distance")
@@ -943,17 +949,13 @@ def reading_findings(stations, readings, elevations=None, meta=None, settings=No
     expected = line - r
     off = np.asarray(elevations, dtype=float) - expected
     for i in np.flatnonzero(np.abs(off) > cfg.reading_precision).tolist():
-        out.append(
-            Finding(
-                "line",
-                "warn",
-                float(x[i]),
-                f"at station {_at(x[i], unit)} the elevation {_len(off[i] + expected[i], unit)} "
-                f"is not line height minus reading ({_len(expected[i], unit)})",
-                f"re-enter station {_at(x[i], unit)} so that reading and elevation agree",
-                i,
-            )
+        at = _at(x[i], unit)
+        message = (
+            f"at station {at} the elevation {_len(off[i] + expected[i], unit)} is not line "
+            f"height minus reading ({_len(expected[i], unit)})"
         )
+        todo = f"re-enter station {at} so that reading and elevation agree"
+        out.append(Finding("line", "warn", float(x[i]), message, todo, i))
     return out
 
 
