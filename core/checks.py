@@ -476,7 +476,10 @@ def spike_scores(stations, elevations, codes=None, settings: CheckSettings | Non
     sides of the point, and at a break one line goes through it.  Each miss is scaled by the
     noise of its prediction: the robust spread of the chord residuals over the whole section
     (1.4826 x median absolute deviation, at least half the reading precision) times the
-    prediction's gain, with the tape precision times the local slope added.
+    prediction's gain, with the tape precision times the local slope added.  The foot of a
+    vertical face needs twice the score (it may sit in an undercut, or on slumped bank); a coded
+    slope break (:data:`BREAK_CODES`) stops the lines through it, and two neighbouring breaks
+    (a bench) may be level with each other.
 
     Returns ``(score, miss, expected)``: ``score`` is 1 at the flagging threshold (the chord miss
     over ``spike_score`` scaled misses and each side miss over ``spike_side_score``, whichever is
@@ -495,7 +498,7 @@ def spike_scores(stations, elevations, codes=None, settings: CheckSettings | Non
     have = np.isfinite(scaled)
     up = np.all(np.where(have, scaled > 0, True), axis=0)
     down = np.all(np.where(have, scaled < 0, True), axis=0)
-    # the foot of a vertical face may sit in an undercut or on slumped bank: it needs twice the score
+    # the foot of a vertical face may sit in an undercut or on slumped bank
     step = np.diff(x)
     foot = np.zeros(x.size, dtype=bool)
     foot[1:] |= (step == 0) & (z[1:] < z[:-1])
