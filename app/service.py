@@ -482,15 +482,16 @@ class FieldService:
         if position.get("visit") == visit_uuid:
             self.store.set_setting(POSITION_KEY, None)
 
-    def write_package(self, visit_uuid: str) -> str:
+    def write_package(self, visit_uuid: str, outbox: str | None = None) -> str:
         """Write the finished visits' packages to the outbox; returns this visit's file path.
 
-        Uses its own connection to the store file, so it may run on the worker thread.
+        With ``outbox`` given it uses its own connection to the store file, so it may run on the
+        worker thread.
         """
         from core.package import pack_visits
         from core.store import Store
 
-        outbox = self.outbox()
+        outbox = self.outbox() if outbox is None else outbox
         if self.store.path:
             with Store.open(self.store.path, device_id=self.store.device_id) as own:
                 results = pack_visits(own, outbox)
@@ -504,7 +505,8 @@ class FieldService:
     def write_package_async(self, visit_uuid: str, on_done, on_error=None) -> None:
         """:meth:`write_package` on the worker thread (a file store) or at once (in memory)."""
         if self.store.path:
-            self.worker.run(lambda: self.write_package(visit_uuid), on_done, on_error)
+            outbox = self.outbox()
+            self.worker.run(lambda: self.write_package(visit_uuid, outbox), on_done, on_error)
         else:
             on_done(self.write_package(visit_uuid))
 

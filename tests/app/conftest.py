@@ -53,8 +53,18 @@ class Driver:
     def tap(self, widget) -> None:
         """Touch down and up at the centre of ``widget`` (as a finger would)."""
         from kivy.tests.common import UnitTestTouch
+        from kivy.uix.scrollview import ScrollView
 
+        self.frames(1)  # let a screen that was just shown lay itself out
         assert widget.get_root_window() is not None, f"{widget} is not on screen"
+        parent = widget.parent
+        while parent is not None and not isinstance(parent, ScrollView):
+            parent = (
+                None if parent.parent is parent else parent.parent
+            )  # the window is its own parent
+        if parent is not None:  # scroll it into view first, as a person would
+            parent.scroll_to(widget, padding=10, animate=False)
+            self.frames(2)
         touch = UnitTestTouch(*widget.to_window(*widget.center))
         touch.touch_down()
         self.frames(1)
@@ -76,17 +86,30 @@ class Driver:
         self.frames(1)
 
     def keypad(self, text: str, screen=None) -> None:
-        """Tap the on-screen keypad keys for ``text`` (digits and '.')."""
+        """Tap the on-screen keypad keys for ``text`` (digits and '.'), or one named key
+        (``back``, ``clear``, ``sign``, ``enter``)."""
         screen = screen or self.screen
         keys = {k.action: k for k in screen.ids.keypad.walk() if hasattr(k, "action")}
-        for ch in text:
-            self.tap(keys[ch])
+        for action in [text] if text in keys else text:
+            self.tap(keys[action])
+
+    def texts(self, screen=None) -> str:
+        """All the text shown by the labels and buttons of a screen, one per line."""
+        from kivy.uix.label import Label
+
+        screen = screen or self.screen
+        return "\n".join(w.text for w in screen.walk() if isinstance(w, Label))
 
     def enter(self, screen=None) -> None:
         """Tap the keypad's enter key."""
         screen = screen or self.screen
         keys = {k.action: k for k in screen.ids.keypad.walk() if hasattr(k, "action")}
         self.tap(keys["enter"])
+
+    def go(self, name: str, **options) -> None:
+        """Show a screen the way the step bar does, and let it lay out."""
+        self.app.go(name, **options)
+        self.frames(2)
 
     def key(self, key: int, codepoint: str | None = None) -> None:
         """Press a physical key (as on a laptop)."""
