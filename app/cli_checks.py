@@ -130,5 +130,7 @@ def run_check(args) -> int:
         where = "" if f.station is None else f" at {f.station:g} {args.unit}"
         print(f"[{f.severity}] {f.kind}{where}: {f.message}")
         print(f"    -> {f.suggestion}")
+    if args.stage is None:
+        print("No --stage given: the checks that need the water level were not run.")
     print(CAUTION)
     return 0
