@@ -67,14 +67,15 @@ class ChecksScreen(BaseScreen):
         box.clear_widgets()
         unit = self.service.visit(self.visit)["unit"]
         for finding in findings:
-            where = "" if finding["station"] is None else f" at {finding['station']:g} {unit}"
+            station = finding["station"]
+            where = "" if station is None else f" at {round(station, 2):g} {unit}"
             word = SEVERITY_WORDS.get(finding["severity"], finding["severity"])
             if finding.get("override"):
                 word = "OVERRIDDEN"
             row = FindingRow(
                 severity="note" if finding.get("override") else finding["severity"],
                 heading=f"{word} · {finding['kind']}{where}",
-                body=f"{finding['message']}\n→ {finding['suggestion']}",
+                body=f"{finding['message']}\n[b]To do:[/b] {finding['suggestion']}",
                 has_station=finding["station"] is not None,
                 station=finding["station"] if finding["station"] is not None else 0.0,
             )

@@ -116,6 +116,14 @@ class ReadingsScreen(KeypadScreen):
         self.ids.view.water_level = self.service.water_level(self.visit)
         self.ids.view.set_section(x, z, flagged=list(self.flags), current=self.station)
         self.ids.list.data = self.rows
+        self._scroll_to_current()
+
+    def _scroll_to_current(self) -> None:
+        """Keep the current station's row in view (the list scrolls, the crew does not)."""
+        index = next((i for i, row in enumerate(self.rows) if row["current"]), None)
+        if index is None or len(self.rows) < 2:
+            return
+        self.ids.list.scroll_y = max(0.0, min(1.0, 1.0 - index / (len(self.rows) - 1)))
 
     def _row(self, record: dict) -> dict:
         flagged = record["station"] in self.flags

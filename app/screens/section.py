@@ -32,9 +32,10 @@ class SectionScreen(KeypadScreen):
         visit = self.service.visit(self.visit)
         self.unit = visit["unit"]
         self._section = self.service.section(self.visit)
-        x, z = self.service.profile(self.visit)
+        self._profile = self.service.profile(self.visit)
         self.ids.view.level_step = max(float(self.service.settings()["precision"]), 0.001)
-        self.ids.view.set_section(x, z, refit=True)
+        self.ids.view.set_section(*self._profile, refit=True)
+        self.service.review_async(self.visit, self._show_flags)
         recorded = self.service.water_level(self.visit)
         self.activate(self.ids.level_field)
         self.ids.level_field.text = "" if recorded is None else f"{recorded:.3f}"
@@ -45,6 +46,15 @@ class SectionScreen(KeypadScreen):
             self.say(f"Recorded water level {recorded:.3f} {self.unit}.", "saved")
         else:
             self.say("Type the water level (elevation) or drag the blue line.", "none")
+
+    def _show_flags(self, findings: list[dict]) -> None:
+        """Mark the stations the checks flag (spikes, repeats) on the drawing."""
+        flagged = [
+            f["station"]
+            for f in findings
+            if f["station"] is not None and f["kind"] in ("spike", "duplicate", "order", "line")
+        ]
+        self.ids.view.set_section(*self._profile, flagged=flagged)
 
     def on_field_edited(self, field) -> None:
         """Typing a level updates the drawing and the figures at once (not yet recorded)."""

@@ -37,6 +37,7 @@ class Driver:
     def __init__(self, app, window):
         self.app = app
         self.window = window
+        self._last_screen = None
 
     def frames(self, count: int = 2) -> None:
         """Advance the event loop ``count`` frames."""
@@ -55,7 +56,9 @@ class Driver:
         from kivy.tests.common import UnitTestTouch
         from kivy.uix.scrollview import ScrollView
 
-        self.frames(1)  # let a screen that was just shown lay itself out
+        if self.screen is not self._last_screen:  # let a screen just shown lay itself out
+            self.frames(2)
+            self._last_screen = self.screen
         assert widget.get_root_window() is not None, f"{widget} is not on screen"
         parent = widget.parent
         while parent is not None and not isinstance(parent, ScrollView):
@@ -67,7 +70,6 @@ class Driver:
             self.frames(2)
         touch = UnitTestTouch(*widget.to_window(*widget.center))
         touch.touch_down()
-        self.frames(1)
         touch.touch_up()
         self.frames(1)
 
