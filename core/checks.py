@@ -137,7 +137,9 @@ class CheckSettings:
       break, as a share of the panel's wetted area (USBR Water Measurement Manual ch. 10: 3 %);
       ``break_min_share``: and the least, as a share of the whole wetted area, worth a finding
       (ours: 1 %, so that bed roughness is not taken for a break).
-    - ``edge_distance``: a water's edge farther than this from every station is unread.
+    - ``edge_distance``: a water's edge farther than this from every station is unread;
+      ``edge_height_share``: a station coded ``water_edge`` off the water level by more than
+      this share of the deepest water was not read at the edge.
     - ``line_tolerance``: allowed disagreement of the line heights with the level check.
     - ``plumb_length``: longest reading the plumb (or rod) allows; ``None`` skips that check.
     - ``closure_coefficient`` per square root of ``closure_length_unit`` (survey unit): third-order
@@ -159,6 +161,7 @@ class CheckSettings:
     break_area_share: float = 0.03
     break_min_share: float = 0.01
     edge_distance: float = 0.15
+    edge_height_share: float = 0.10
     line_tolerance: float = 0.01
     plumb_length: float | None = None
     closure_coefficient: float = 0.012
@@ -656,38 +659,46 @@ def _wet_panels(x: np.ndarray, z: np.ndarray, stage: float):
     return wet_width, mean_depth, mean_f, edge
 
 
-def edge_findings(stations, elevations, stage: float, settings=None) -> list[Finding]:
-    """``edge`` findings: a water's edge farther than ``edge_distance`` from every station.
+def edge_findings(stations, elevations, stage: float, codes=None, settings=None) -> list[Finding]:
+    """``edge`` findings: a water's edge not read (stations sorted, survey unit).
 
     Edges are found as :meth:`core.geometry.Section.edges` finds them (straight ground between
-    stations); an edge that far from both stations of its panel lies in a panel wider than twice
-    the tolerance, so the real edge -- and the wetted width -- is guessed, not read.
+    stations); one farther than ``edge_distance`` from both stations of its panel lies in a panel
+    wider than twice that, so the real edge -- and the wetted width -- is guessed, not read.  A
+    station coded ``water_edge`` more than ``edge_height_share`` of the deepest water (at least
+    three times the reading precision, and twice the station precision times the bank's slope)
+    above or below the water level was not read at the edge (or the water level has changed).
     """
     cfg = settings or CheckSettings()
     x, z = np.asarray(stations, dtype=float), np.asarray(elevations, dtype=float)
-    _, _, _, edge = _wet_panels(x, z, stage)
-    out = []
-    for j in np.flatnonzero(np.isfinite(edge)).tolist():
-        gap = min(edge[j] - x[j], x[j + 1] - edge[j])
+    unit, out = cfg.unit, []
+    for j, at in enumerate(_wet_panels(x, z, stage)[3].tolist()):
+        gap = min(at - x[j], x[j + 1] - at) if math.isfinite(at) else 0.0
         thin = stage - min(z[j], z[j + 1]) <= 2 * cfg.reading_precision
         brim = max(z[j], z[j + 1]) - stage <= 2 * cfg.reading_precision
         if gap <= cfg.edge_distance or thin or brim:
             continue  # near a station, or water or bank within reading of the water level
-        side = "left" if z[j] > z[j + 1] else "right"
-        unit = cfg.unit
-        out.append(
-            Finding(
-                "edge",
-                "warn",
-                float(edge[j]),
-                f"the {side} water's edge falls about {_at(edge[j], unit)}, inside the "
-                f"{_len(x[j + 1] - x[j], unit, 2)} panel from {_at(x[j], unit)} to "
-                f"{_at(x[j + 1], unit)}; no station was read within {_len(gap, unit, 2)} of it",
-                f"add a station at the water's edge, near {_new_station(edge[j], unit)} (read "
-                "where the water meets the ground)",
-                j,
-            )
+        message = (
+            f"the {'left' if z[j] > z[j + 1] else 'right'} water's edge falls about "
+            f"{_at(at, unit)}, inside the {_len(x[j + 1] - x[j], unit, 2)} panel from "
+            f"{_at(x[j], unit)} to {_at(x[j + 1], unit)}; no station was read within "
+            f"{_len(gap, unit, 2)} of it"
         )
+        todo = f"add a station at the water's edge, near {_new_station(at, unit)} (read where the water meets the ground)"
+        out.append(Finding("edge", "warn", float(at), message, todo))
+    allowed = max(cfg.edge_height_share * (stage - z.min()), 3 * cfg.reading_precision)
+    for i in [i for i, c in enumerate(codes or []) if c == "water_edge"]:
+        lo, hi = max(i - 1, 0), min(i + 1, x.size - 1)
+        steep = abs(z[hi] - z[lo]) / (x[hi] - x[lo]) if x[hi] > x[lo] else 0.0
+        if abs(z[i] - stage) <= max(allowed, 2 * cfg.station_precision * steep):
+            continue  # on a steep bank a tape error of the station moves the height a lot
+        way = "above" if z[i] > stage else "below"
+        message = (
+            f"station {_at(x[i], unit)} is coded water's edge but lies "
+            f"{_len(abs(z[i] - stage), unit)} {way} the water level ({_len(stage, unit)})"
+        )
+        todo = f"re-read station {_at(x[i], unit)} at the water's edge, or check the water level"
+        out.append(Finding("edge", "warn", float(x[i]), message, todo, i))
     return out
 
 
@@ -812,7 +823,7 @@ def _gap_reasons(x, wet_width, mean_f, cfg):
         yield (
             j,
             (
-                f"it carries about {100 * share[j]:.0f} % of the flow by the depth^(5/3) x width "
+                f"it carries about {100 * share[j]:.1f} % of the flow by the depth^(5/3) x width "
                 f"proxy (USGS practice: no panel over {100 * cfg.max_panel_share:.0f} %)"
             ),
         )
@@ -1073,7 +1084,7 @@ def review(
         inner += over
         if not over and np.any(zs < stage):
             inner += sparse_findings(xs, zs, stage, cfg)
-            inner += edge_findings(xs, zs, stage, cfg)
+            inner += edge_findings(xs, zs, stage, cs, cfg)
             inner += gap_findings(xs, zs, stage, cfg)
     for f in inner:
         if f.index is not None:

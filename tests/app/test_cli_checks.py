@@ -74,11 +74,15 @@ def test_text_output_has_units_suggestions_and_the_caution(tmp_path, capsys):
 
 
 def test_demo_survey_with_its_line_heights(capsys):
-    # XS1 of the invented demo creek: readings, elevations and codes as the crew entered them
+    # XS1 of the invented demo creek: readings, elevations and codes as the crew entered them.
+    # Line heights agree with the level check and with every reading; the two stations coded
+    # water's edge lie 0.164 m and 0.124 m below the water level of 99.98 m, so both are flagged.
     args = ["check", str(DEMO / "xs1_2026-04-14.csv"), "--stage", "99.98", "--json"]
     args += ["--line-left", "101.2", "--line-right", "101.2", "--line-check", "101.201"]
     assert main(args + ["--min-stations", "15"]) == 0
-    assert json.loads(capsys.readouterr().out) == []
+    found = json.loads(capsys.readouterr().out)
+    assert [(f["kind"], f["station"]) for f in found] == [("edge", 2.25), ("edge", 9.75)]
+    assert f"{99.98 - (101.2 - 1.384):.3f} m below the water level" in found[0]["message"]
 
 
 @pytest.mark.parametrize(

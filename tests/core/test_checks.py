@@ -286,6 +286,16 @@ def test_missing_water_edge_suggests_where_to_read_it():
     assert f"near {round(left_edge / 0.05) * 0.05:g} m" in found[0].suggestion
 
 
+def test_station_coded_water_edge_must_be_at_the_water_level():
+    section = natural_section(np.random.default_rng(14), banks=("sloped", "sloped"))
+    i = section.codes.index("water_edge")
+    off = 0.3 * section.max_water_depth
+    found = [f for f in loud(run(with_point_error(section, i, -off))) if f.kind == "edge"]
+    assert [f.index for f in found] == [i]
+    assert "below the water level" in found[0].message
+    assert f"re-read station {round(float(section.stations[i]), 2):g} m" in found[0].suggestion
+
+
 def test_gap_flow_share_rule_cites_usgs():
     x, z = surveyed(TRAPEZOID, 1.4, 0.5)
     keep = (x <= 5.0) | (x >= 9.0) | (x == 7.0)  # two wide panels over the deepest water
@@ -295,7 +305,7 @@ def test_gap_flow_share_rule_cites_usgs():
     xs, zs = x[keep], z[keep]
     d = np.maximum(1.4 - zs, 0)
     share = 2.0 * 1.4 ** (5 / 3) / np.sum(np.diff(xs) * _mean_power(d[:-1], d[1:]))
-    assert f"{100 * share:.0f} % of the flow" in found[0].message
+    assert f"{100 * share:.1f} % of the flow" in found[0].message
     assert "USGS" in found[0].message and "add a station at 6 m" in found[0].suggestion
 
 
