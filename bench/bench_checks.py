@@ -85,7 +85,7 @@ def misses(count: int, seed: int) -> float:
             by_place[where(bad, i)] += 1
     rate = missed / count
     print(f"one-station errors of 10-50 % of maximum depth: {count} sections, {missed} missed")
-    for label in size_total:
+    for label in sorted(size_total, key=lambda text: float(text.split("%")[0])):
         print(f"    error {label:>8} of depth: {by_size[label]:4d} / {size_total[label]:4d} missed")
     for label, total in place_total.most_common():
         print(f"    at {label:<14}: {by_place[label]:4d} / {total:4d} missed")
