@@ -5,11 +5,13 @@ Used by the tests and the benchmark of :mod:`core.checks`.  A section is built i
 1. **Ground**: a dense polyline (1 cm resolution) of an invented natural channel -- floodplain
    margins where the stakes stand, two banks (sloped, steep, vertical, undercut at the toe, or with
    a bench), a bed with an off-centre thalweg, optional mid-channel or point bar and pool, and
-   spatially correlated bed roughness (gravel and cobbles).
+   spatially correlated bed roughness of a gravel bed (standard deviation 3-12 mm plus up to
+   1.5 % of the depth, correlated over 8-40 cm; the floodplain 6 mm).
 2. **Survey**: what a crew following common practice reads on that ground at one water level --
    both stakes, the bank tops, the toes, both water's edges of every wetted part, the deepest
    point, the bar top, and regular stations at a round spacing giving 22-32 stations across the
-   water.  Stations are taped to 1 cm with a small placement error; the plumb is read to 1 mm with a
+   water (twice that spacing on the dry banks), with a station added in any panel carrying more
+   than 8 % of the flow by the depth^(5/3) x width proxy, as USGS practice asks.  Stations are taped to 1 cm with a small placement error; the plumb is read to 1 mm with a
    small reading error.  Vertical faces are read twice at one station (top, then toe).
 
 Everything is generated in metres and converted at the end when ``unit="ft"``.  Numbers only: the
