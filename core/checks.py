@@ -340,7 +340,9 @@ def duplicate_findings(
 
     Two readings at one station are a vertical face (wall, cut or undercut bank) when the ground
     either side steps the same way, or a code marks a face (:data:`FACE_CODES`); the same reading
-    twice is a double entry (warn); two different readings with no step either side disagree (block).
+    twice is a double entry (warn); two different readings with no step either side disagree
+    (block); a face whose two readings step against the ground either side was entered in
+    reverse order (an ``order`` finding, block).
 
     >>> [f.severity for f in duplicate_findings([0, 1, 1, 2], [1.0, 0.5, 0.5, 1.0])]
     ['warn']
@@ -365,6 +367,17 @@ def duplicate_findings(
         left = z[i - 1] if i > 0 and x[i - 1] < x[i] else z[i]
         right = z[j + 1] if j + 1 < x.size and x[j + 1] > x[j] else z[j]
         outer = right - left  # a face: the ground either side steps the same way
+        if outer * step < 0 and abs(outer) >= 0.5 * abs(step) and left != z[i] and right != z[j]:
+            message = (
+                f"the two readings of the vertical face at {at} ({both}) are in reverse order: "
+                f"the ground steps from {_len(left, unit)} to {_len(right, unit)} across it"
+            )
+            todo = (
+                f"swap the two entries at {at}: enter a face from left to right (on the left "
+                "bank the top first, on the right bank the toe first)"
+            )
+            out.append(Finding("order", "block", float(x[i]), message, todo, j))
+            continue
         if (
             codes[i] in FACE_CODES
             or codes[j] in FACE_CODES
@@ -1075,7 +1088,9 @@ def review(
     xs, zs = x[order], z[order]
     cs = [codes[i] for i in order]
     rs = readings[order] if readings is not None else None
-    inner = duplicate_findings(xs, zs, cs, cfg) + spike_findings(xs, zs, cs, rs, cfg)
+    inner = duplicate_findings(xs, zs, cs, cfg)
+    twice = {f.station for f in inner if f.severity == "block"}  # one cause, one finding
+    inner += [f for f in spike_findings(xs, zs, cs, rs, cfg) if f.station not in twice]
     if stage is not None:
         stage = float(stage)
         if not math.isfinite(stage):

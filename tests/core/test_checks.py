@@ -247,6 +247,17 @@ def test_double_entry_and_conflicting_readings():
     assert "re-read station" in conflict[0].suggestion
 
 
+def test_face_entered_in_reverse_order():
+    x, z = surveyed(RECTANGLE, 1.2, 0.25)
+    i = int(np.flatnonzero(np.diff(x) == 0)[0])  # the left wall: top (2.0) then toe (0.0)
+    z[[i, i + 1]] = z[[i + 1, i]]
+    found = loud(
+        review(x, z, stage=1.2, codes=["bank_top" if k == i + 1 else "" for k in range(x.size)])
+    )
+    assert [(f.kind, f.severity, f.station) for f in found] == [("order", "block", 1.5)]
+    assert "swap the two entries at 1.5 m" in found[0].suggestion
+
+
 def test_vertical_faces_are_not_duplicates_even_without_codes():
     x, z = surveyed(RECTANGLE, 1.2, 0.25)
     assert loud(review(x, z), "duplicate") == []
