@@ -8,7 +8,8 @@ no SQL; called by the touch UI after every reading, by ``stakeline check`` and b
 ========== ======== ===============================================================================
 kind       severity what it means
 ========== ======== ===============================================================================
-order      block    a station entered after a larger one (stations go backwards)
+order      block    a station entered after a larger one (stations go backwards), or the two
+                    readings of a vertical face entered in reverse order
 duplicate  warn     the same station and reading entered twice; block when two readings at one
                     station disagree and the ground either side shows no vertical face
 overtopped block    the water level stands above an end of the survey
@@ -16,7 +17,8 @@ spike      warn     a reading out of line with its neighbours (block when far ou
 gap        warn     a panel too wide: too large a share of the flow, much wider than the other
                     panels, or wide across a slope break
 sparse     warn     fewer stations across the water than the crew's minimum
-edge       warn     water present but no station near a water's edge
+edge       warn     water present but no station near a water's edge, or a station coded
+                    water's edge that is not at the water level
 line       block    line heights disagree with the level check; a reading negative or longer than
                     the plumb; (warn) an elevation that is not line height minus reading
 closure    block    level-loop misclosure beyond tolerance
