@@ -926,7 +926,11 @@ def line_findings(meta: Mapping, settings=None) -> list[Finding]:
     if at is not None:
         ends = [(f"the line at {_at(at, cfg.unit)}", float(_line_at(meta, at)))]
     else:
-        ends = [(n, v) for n, v in (("the left stake", left), ("the right stake", right)) if v]
+        ends = [
+            (n, v)
+            for n, v in (("the left stake", left), ("the right stake", right))
+            if v is not None
+        ]
     out = []
     for name, height in ends:
         off = height - check
