@@ -103,6 +103,7 @@ class StakelineApp(App):
         """Close the store cleanly (checkpoints the journal)."""
         Window.unbind(on_key_down=self._on_key_down)
         if self.service is not None:
+            self.service.worker.cancelled = True
             self.service.store.close()
             self.service = None
 

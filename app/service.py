@@ -97,6 +97,7 @@ class Worker:
 
     def __init__(self):
         self.pending = 0
+        self.cancelled = False  # set when the app stops: late results are dropped
 
     def run(self, function, on_done, on_error=None) -> None:
         """Call ``function()`` on a thread; then ``on_done(result)`` or ``on_error(exc)`` on the UI
@@ -117,7 +118,7 @@ class Worker:
 
     def _finish(self, callback, value) -> None:
         self.pending -= 1
-        if callback is not None:
+        if callback is not None and not self.cancelled:
             callback(value)
 
 
@@ -467,8 +468,9 @@ class FieldService:
         return [f for f in findings if f["severity"] == "block" and not f.get("override")]
 
     # --- finishing --------------------------------------------------------------------------
-    def finish(self, visit_uuid: str, findings: list[dict], reason: str = "") -> None:
-        """Finish the visit: blocking findings need a written ``reason`` (stored as overrides)."""
+    def finish(self, visit_uuid: str, findings: list[dict], reason: str = "") -> dict:
+        """Finish the visit: blocking findings need a written ``reason`` (stored as overrides).
+        Returns the finished visit record."""
         blocking = self.blocking(findings)
         if blocking and not reason.strip():
             raise ServiceError(
@@ -477,10 +479,11 @@ class FieldService:
             )
         for finding in blocking:
             self.store.add_override(visit_uuid, finding["kind"], finding["station"], reason.strip())
-        self.store.finish_visit(visit_uuid)
+        finished = self.store.finish_visit(visit_uuid)
         position = self.store.get_setting(POSITION_KEY) or {}
         if position.get("visit") == visit_uuid:
             self.store.set_setting(POSITION_KEY, None)
+        return finished
 
     def write_package(self, visit_uuid: str, outbox: str | None = None) -> str:
         """Write the finished visits' packages to the outbox; returns this visit's file path.

@@ -102,7 +102,7 @@ class ChecksScreen(BaseScreen):
             return
         reason = self.ids.reason.text
         done = self.attempt(self.service.finish, self.visit, list(self.findings), reason)
-        if done is None and self.tone == "flagged":
+        if done is None:
             return
         self.finished = True
         self.say("Visit finished. Writing the package...", "saved")

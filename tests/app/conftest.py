@@ -9,6 +9,7 @@ teardown; NoTransition; ``Clock._max_fps = 0`` so frames do not sleep.
 from __future__ import annotations
 
 import os
+import time
 
 import pytest
 
@@ -133,6 +134,7 @@ class Driver:
         for _ in range(limit):
             if condition():
                 return
+            time.sleep(0.002)  # a real frame loop sleeps too: lets the worker thread run
             self.frames(1)
         raise AssertionError("condition not met in time")
 
