@@ -352,6 +352,16 @@ class FieldService:
             self.add_to_plan(visit_uuid, station)
         return record
 
+    def update_reading(self, visit_uuid: str, station: float, **changes) -> dict | None:
+        """Change the feature code or note of the reading at ``station`` (kept in history)."""
+        existing = self.reading_at(visit_uuid, station)
+        if existing is None:
+            return None
+        unknown = set(changes) - {"code", "note"}
+        if unknown:
+            raise ServiceError(f"cannot change {', '.join(sorted(unknown))} here")
+        return self.store.correct_station(existing["uuid"], **changes)
+
     def remove_reading(self, visit_uuid: str, station: float) -> dict | None:
         """Remove the reading at ``station`` (kept in history); returns the removed record."""
         existing = self.reading_at(visit_uuid, station)

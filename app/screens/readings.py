@@ -77,6 +77,7 @@ class ReadingsScreen(KeypadScreen):
         """Open at ``station`` (or the next unread planned station)."""
         visit = self.service.visit(self.visit)
         self.unit = visit["unit"]
+        self.ids.view.flip = visit["origin"] == "right"
         self.decimals = theme.decimals_for(self.service.settings()["precision"])
         self.mode = "reading"
         self.flags = {}
@@ -237,7 +238,7 @@ class ReadingsScreen(KeypadScreen):
         self.code = "" if self.code == code else code
         existing = self.service.reading_at(self.visit, self.station)
         if existing and not self.ids.keypad.text and existing["code"] != self.code:
-            self.attempt(self.service.store.correct_station, existing["uuid"], code=self.code)
+            self.attempt(self.service.update_reading, self.visit, self.station, code=self.code)
             self.say(f"Feature code of {self.station:g} saved.", "saved")
             self.refresh()
 
@@ -252,7 +253,7 @@ class ReadingsScreen(KeypadScreen):
         self.note = text.strip()
         existing = self.service.reading_at(self.visit, self.station)
         if existing and existing["note"] != self.note:
-            self.attempt(self.service.store.correct_station, existing["uuid"], note=self.note)
+            self.attempt(self.service.update_reading, self.visit, self.station, note=self.note)
             self.say(f"Note on {self.station:g} saved.", "saved")
             self.refresh()
         elif not existing:

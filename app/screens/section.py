@@ -31,6 +31,7 @@ class SectionScreen(KeypadScreen):
         """Load the ground and the recorded water level."""
         visit = self.service.visit(self.visit)
         self.unit = visit["unit"]
+        self.ids.view.flip = visit["origin"] == "right"
         self._section = self.service.section(self.visit)
         self._profile = self.service.profile(self.visit)
         self.ids.view.level_step = max(float(self.service.settings()["precision"]), 0.001)

@@ -17,7 +17,7 @@ import numpy as np
 from kivy.core.text import Label as CoreLabel
 from kivy.graphics import Color, InstructionGroup, Line, Mesh, Point, Rectangle
 from kivy.metrics import dp, sp
-from kivy.properties import NumericProperty, ObjectProperty
+from kivy.properties import BooleanProperty, NumericProperty, ObjectProperty
 from kivy.uix.stencilview import StencilView
 
 from app import theme as T
@@ -57,6 +57,9 @@ class SectionView(StencilView):
 
     water_level = ObjectProperty(None, allownone=True)
     level_step = NumericProperty(0.005)
+    flip = BooleanProperty(False)
+    """True when the tape starts at the right stake: stations then grow to the left, so the
+    drawing is mirrored to keep the left bank (looking downstream) on the left."""
     __events__ = ("on_level_dragged",)
 
     def __init__(self, **kwargs):
@@ -106,6 +109,10 @@ class SectionView(StencilView):
             self._view = None
         self.redraw()
 
+    def on_flip(self, *_args) -> None:
+        """Mirror the drawing."""
+        self.redraw()
+
     def on_water_level(self, *_args) -> None:
         """Redraw the water when the level changes."""
         self.update_water()
@@ -138,6 +145,8 @@ class SectionView(StencilView):
         x0, x1, z0, z1 = self._view
         left, bottom, width, height = self._frame()
         kx, kz = width / (x1 - x0), height / (z1 - z0)
+        if self.flip:
+            return left + x1 * kx, -kx, bottom - z0 * kz, kz
         return left - x0 * kx, kx, bottom - z0 * kz, kz
 
     def to_screen(self, x, z):
