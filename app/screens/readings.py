@@ -219,13 +219,17 @@ class ReadingsScreen(KeypadScreen):
         if record is None:
             return
         saved_at = self.station
-        self.say(f"Saved {record['reading']:.{self.decimals}f} at station {saved_at:g}.", "saved")
+        self.say(
+            f"Saved {record['reading']:.{self.decimals}f} {self.unit} at station "
+            f"{saved_at:g} {self.unit}.",
+            "saved",
+        )
         after = self.service.next_station(self.visit, saved_at)
         if after is None:
             self.go_to(saved_at)
             self.say(
-                f"Saved {record['reading']:.{self.decimals}f} at {saved_at:g}. Every planned "
-                "station is read: add stations or go to Section.",
+                f"Saved {record['reading']:.{self.decimals}f} {self.unit} at {saved_at:g} "
+                f"{self.unit}. Every planned station is read: add stations or go to Section.",
                 "saved",
             )
         else:
