@@ -52,8 +52,9 @@ class Driver:
         """The screen shown now."""
         return self.app.manager.current_screen
 
-    def tap(self, widget) -> None:
-        """Touch down and up at the centre of ``widget`` (as a finger would)."""
+    def tap(self, widget, settle: bool = True) -> None:
+        """Touch down and up at the centre of ``widget`` (as a finger would); ``settle`` runs a
+        frame afterwards (a frame redraws the window: slow on the software renderer)."""
         from kivy.tests.common import UnitTestTouch
         from kivy.uix.scrollview import ScrollView
 
@@ -72,7 +73,8 @@ class Driver:
         touch = UnitTestTouch(*widget.to_window(*widget.center))
         touch.touch_down()
         touch.touch_up()
-        self.frames(1)
+        if settle:
+            self.frames(1)
 
     def drag(self, widget, start, end, steps: int = 5) -> None:
         """Drag one finger from ``start`` to ``end`` (window pixels) across ``widget``."""
@@ -94,7 +96,8 @@ class Driver:
         screen = screen or self.screen
         keys = {k.action: k for k in screen.ids.keypad.walk() if hasattr(k, "action")}
         for action in [text] if text in keys else text:
-            self.tap(keys[action])
+            self.tap(keys[action], settle=False)  # keys do not move: one frame at the end
+        self.frames(1)
 
     def texts(self, screen=None) -> str:
         """All the text shown by the labels and buttons of a screen, one per line."""
