@@ -36,11 +36,13 @@ def _number(text: str, column: str, row: int) -> float:
     return value
 
 
-def read_section_csv(path: str | Path) -> SectionRows:
+def read_section_csv(path: str | Path, *, keep_order: bool = False) -> SectionRows:
     """Read stations and elevations (survey unit) from a CSV file with a header row.
 
     Columns are matched case-insensitively; other columns are kept as text in ``extra``.  Blank
     lines are skipped.  Raises :class:`core.errors.SectionFileError` naming the row at fault.
+    A station less than the one before it is an error, unless ``keep_order`` is true: then the
+    rows are returned in file order as they are, for the field checks to report as ``order``.
     """
     path = Path(path)
     try:
@@ -48,11 +50,12 @@ def read_section_csv(path: str | Path) -> SectionRows:
             lines = list(csv.reader(handle))
     except FileNotFoundError:
         raise SectionFileError(f"{path}: no such file") from None
-    except (OSError, UnicodeDecodeError) as exc:
+    except (OSError, UnicodeDecodeError, csv.Error) as exc:
         raise SectionFileError(f"{path}: cannot be read as a text CSV file ({exc})") from None
     if not lines:
         raise SectionFileError(
-            f"{path}: the file is empty; expected a header row with station,elevation"
+            f"{path}: the file is empty (no 'station' column); expected a header row with "
+            "station,elevation"
         )
     header = [name.strip().lower() for name in lines[0]]
     for name in REQUIRED:
@@ -71,7 +74,7 @@ def read_section_csv(path: str | Path) -> SectionRows:
             cells = cells + [""] * (len(header) - len(cells))
         station = _number(cells[where["station"]], "station", number)
         elevation = _number(cells[where["elevation"]], "elevation", number)
-        if stations and station < stations[-1]:
+        if not keep_order and stations and station < stations[-1]:
             raise SectionFileError(
                 f"row {number}: station {station:g} is less than the station before it "
                 f"({stations[-1]:g}); stations must not decrease",
