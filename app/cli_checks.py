@@ -8,13 +8,13 @@ error.  Exit code 0 whether or not there are findings; 2 with a one-line error o
 
 from __future__ import annotations
 
-import csv
 import json
 import math
 from pathlib import Path
 
 from core.checks import SEVERITIES, CheckSettings, review
 from core.errors import SectionFileError
+from core.section_csv import read_section_csv
 
 CAUTION = (
     "Field checks only: they catch likely mistakes while the crew is on site; they are not a "
@@ -48,53 +48,43 @@ def register(subparsers) -> None:
     p.set_defaults(handler=run_check)
 
 
-def _number(path: Path, text: str, column: str, row: int) -> float:
+def _reading(text: str, row: int) -> float | None:
+    """A reading cell as a number (survey unit), ``None`` when empty."""
+    if not text:
+        return None
     try:
         value = float(text)
     except ValueError:
         value = math.nan
     if not math.isfinite(value):
-        raise SectionFileError(f"{path}: row {row}: {column} {text!r} is not a number", row=row)
+        raise SectionFileError(f"row {row}: reading {text!r} is not a number", row=row)
     return value
 
 
 def read_entered(path: str | Path) -> dict[str, list]:
-    """Stations, elevations, codes and readings of a section CSV in the order of its rows.
+    """Stations, elevations, codes and readings (survey unit) of a section CSV in row order.
 
-    Like :func:`core.section_csv.read_section_csv` but stations may go backwards (the order check
-    reports them).  Readings are ``None`` where the column is absent or the cell empty.
+    Read by :func:`core.section_csv.read_section_csv` with ``keep_order``: stations may go
+    backwards (the order check reports them).  Readings are ``None`` where the column is absent or
+    the cell empty.  Errors name the file and the row.
     """
-    path = Path(path)
     try:
-        with path.open(newline="", encoding="utf-8-sig") as handle:
-            lines = list(csv.reader(handle))
-    except FileNotFoundError:
-        raise SectionFileError(f"{path}: no such file") from None
-    except (OSError, UnicodeDecodeError, csv.Error) as exc:
-        raise SectionFileError(f"{path}: cannot be read as a text CSV file ({exc})") from None
-    header = [name.strip().lower() for name in lines[0]] if lines else []
-    for name in ("station", "elevation"):
-        if name not in header:
-            raise SectionFileError(
-                f"{path}: row 1: no {name!r} column in the header ({','.join(header) or 'empty'})",
-                row=1,
-            )
-    where = {name: header.index(name) for name in header}
-    out: dict[str, list] = {"stations": [], "elevations": [], "codes": [], "readings": []}
-    for row, cells in enumerate(lines[1:], start=2):
-        if not any(cell.strip() for cell in cells):
-            continue
-        cells = cells + [""] * (len(header) - len(cells))
-        out["stations"].append(_number(path, cells[where["station"]], "station", row))
-        out["elevations"].append(_number(path, cells[where["elevation"]], "elevation", row))
-        out["codes"].append(cells[where["code"]].strip() if "code" in where else "")
-        text = cells[where["reading"]].strip() if "reading" in where else ""
-        out["readings"].append(_number(path, text, "reading", row) if text else None)
-    if len(out["stations"]) < 2:
-        raise SectionFileError(
-            f"{path}: a section needs at least 2 rows of data, found {len(out['stations'])}"
-        )
-    return out
+        rows = read_section_csv(path, keep_order=True)
+        blank = [""] * len(rows.stations)
+        readings = [
+            _reading(text, row)
+            for text, row in zip(rows.extra.get("reading", blank), rows.rows, strict=True)
+        ]
+    except SectionFileError as exc:
+        if str(exc).startswith(f"{path}:"):
+            raise
+        raise SectionFileError(f"{path}: {exc}", row=exc.row) from None
+    return {
+        "stations": rows.stations,
+        "elevations": rows.elevations,
+        "codes": rows.extra.get("code", blank),
+        "readings": readings,
+    }
 
 
 def run_check(args) -> int:
