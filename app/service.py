@@ -133,6 +133,7 @@ class FieldService:
         self.store = store
         self.default_outbox = outbox
         self.worker = Worker()
+        self._readings: dict[str, list[dict]] = {}  # visit -> current readings, until a change
 
     # --- settings ---------------------------------------------------------------------------
     def settings(self) -> dict:
@@ -275,6 +276,7 @@ class FieldService:
         for side in ("left_stake", "right_stake"):
             if side in section_fields and not str(section_fields[side]).strip():
                 raise ServiceError(f"the {side.replace('_', ' ')} needs a name")
+        self._changed()  # line heights and origin change the elevations
         if section_fields:
             self.store.update_section(visit["section_uuid"], **section_fields)
         if visit_fields:
@@ -322,8 +324,19 @@ class FieldService:
 
     # --- readings ---------------------------------------------------------------------------
     def readings(self, visit_uuid: str) -> list[dict]:
-        """Current readings of the visit, sorted by station (store dicts)."""
-        return [r for r in self.store.stations(visit_uuid) if not r.get("removed")]
+        """Current readings of the visit, sorted by station (store dicts; do not modify).
+
+        Kept between changes: every change goes through this service, which forgets the copy.
+        """
+        cached = self._readings.get(visit_uuid)
+        if cached is None:
+            cached = [r for r in self.store.stations(visit_uuid) if not r.get("removed")]
+            self._readings = {visit_uuid: cached}
+        return cached
+
+    def _changed(self) -> None:
+        """Forget the kept readings after any change to a visit."""
+        self._readings = {}
 
     def reading_at(self, visit_uuid: str, station: float) -> dict | None:
         """The current reading at exactly this station, or ``None``."""
@@ -343,6 +356,7 @@ class FieldService:
                 f"reading at station {station:g} is negative; the plumb reads down from the line"
             )
         existing = self.reading_at(visit_uuid, station)
+        self._changed()
         if existing is None:
             record = self.store.save_station(visit_uuid, station, reading, code=code, note=note)
         else:
@@ -360,15 +374,18 @@ class FieldService:
         unknown = set(changes) - {"code", "note"}
         if unknown:
             raise ServiceError(f"cannot change {', '.join(sorted(unknown))} here")
+        self._changed()
         return self.store.correct_station(existing["uuid"], **changes)
 
     def remove_reading(self, visit_uuid: str, station: float) -> dict | None:
         """Remove the reading at ``station`` (kept in history); returns the removed record."""
         existing = self.reading_at(visit_uuid, station)
+        self._changed()
         return None if existing is None else self.store.remove_station(existing["uuid"])
 
     def undo(self, visit_uuid: str) -> dict | None:
         """Undo the latest reading change of the visit; returns what was undone or ``None``."""
+        self._changed()
         return self.store.undo(visit_uuid)
 
     def next_station(self, visit_uuid: str, current: float | None) -> float | None:
@@ -489,6 +506,7 @@ class FieldService:
             )
         for finding in blocking:
             self.store.add_override(visit_uuid, finding["kind"], finding["station"], reason.strip())
+        self._changed()
         finished = self.store.finish_visit(visit_uuid)
         position = self.store.get_setting(POSITION_KEY) or {}
         if position.get("visit") == visit_uuid:
