@@ -255,19 +255,25 @@ def _comparison(data: ReportData, section: Section, previous: dict) -> None:
 
 
 def field_findings(visit: dict, stations: list[dict], stage: float | None) -> list[dict] | None:
-    """Field-check findings of a visit as dicts, or None when ``core.checks`` is not available."""
+    """Field-check findings of a visit as dicts, or None when ``core.checks`` is not available.
+
+    ``stations`` (survey unit) are checked in station order, then entry order (``seq``) at one
+    station, as :meth:`core.store.Store.stations` returns them: a station inserted later is in
+    its place, not an ``order`` finding (that is caught as it is typed), while the two readings
+    of a vertical face keep the order they were read in.  ``stage``: water level or ``None``.
+    """
     try:
         from core.checks import review
     except ImportError:  # hook: reports still work in a build without the field checks
         return None
-    entered = sorted(stations, key=lambda s: s.get("seq", 0))
+    ordered = sorted(stations, key=lambda s: (s["station"], s.get("seq", 0)))
     found = review(
-        [s["station"] for s in entered],
-        [s["elevation"] for s in entered],
+        [s["station"] for s in ordered],
+        [s["elevation"] for s in ordered],
         stage=stage,
         meta=visit,
-        codes=[s.get("code", "") or "" for s in entered],
-        readings=[s.get("reading") for s in entered],
+        codes=[s.get("code", "") or "" for s in ordered],
+        readings=[s.get("reading") for s in ordered],
     )
     return [f.as_dict() for f in found]
 

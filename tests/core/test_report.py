@@ -162,3 +162,51 @@ def test_field_findings_hook(demo):
     assert isinstance(found, list)
     for f in found:
         assert set(f) == {"kind", "severity", "station", "message", "suggestion"}
+
+
+def visit_with(entries):
+    """A real in-memory store holding one visit with (station, reading) entered in this order."""
+    store = Store.memory()
+    site = store.create_site("Report order test")
+    section = store.create_section(site["uuid"], "XS-order")
+    visit = store.start_visit(section["uuid"], "2026-05-01", line_left=101.0, line_right=101.0)
+    for station, reading in entries:
+        store.save_station(visit["uuid"], station, reading)
+    return store, store.visit(visit["uuid"]), store.stations(visit["uuid"])
+
+
+def test_a_station_inserted_later_is_no_order_finding_in_the_report():
+    # A smooth V; station 3 was skipped and inserted after station 6 (higher seq, lower station).
+    # Elevation = line height - reading, so readings are 101 - elevation.
+    ground = {0: 100.5, 1: 100.0, 2: 99.5, 3: 99.0, 4: 99.5, 5: 100.0, 6: 100.5}
+    entries = [(x, 101.0 - z) for x, z in ground.items() if x != 3] + [(3, 101.0 - ground[3])]
+    store, visit, stations = visit_with(entries)
+    try:
+        by_entry = sorted(stations, key=lambda s: s["seq"])
+        assert [s["station"] for s in by_entry][-1] == 3  # the insert is the latest entry
+        # In entry order the stations go backwards, which is what the order check catches while
+        # typing (review of the points as entered) ...
+        from core.checks import review
+
+        typed = review([s["station"] for s in by_entry], [s["elevation"] for s in by_entry])
+        assert [f.kind for f in typed] == ["order"]
+        # ... but the office report checks the section as surveyed, in station order.
+        found = field_findings(visit, stations, None)
+        assert found is not None
+        assert [f for f in found if f["kind"] == "order"] == []
+    finally:
+        store.close()
+
+
+def test_a_face_read_in_reverse_order_is_still_an_order_finding_in_the_report():
+    # Left bank face at station 2 read toe first (elevation 98.8), then its top (99.8), although
+    # the ground steps down across it from 99.9 to 98.7: stable station order keeps the two
+    # readings in the order they were read.
+    ground = [(0, 100.0), (1, 99.9), (2, 98.8), (2, 99.8), (3, 98.7), (4, 98.8), (5, 100.0)]
+    store, visit, stations = visit_with([(x, 101.0 - z) for x, z in ground])
+    try:
+        # given in any order (here reversed), the entry number puts the two back as read
+        found = field_findings(visit, list(reversed(stations)), None)
+        assert [(f["kind"], f["station"]) for f in found if f["kind"] == "order"] == [("order", 2)]
+    finally:
+        store.close()
