@@ -180,6 +180,7 @@ class FieldService:
         keys = ("left_stake", "right_stake", "origin", "benchmark_name", "benchmark_elevation")
         out = {k: section[k] for k in keys}
         out.update({k: visit[k] for k in ("line_left", "line_right", "line_check", "unit")})
+        out["method"], out["backsight"] = visit["method"], visit["backsight"]
         out["stake_distance"] = visit["stake_distance"]
         out["left_coordinates"] = section["left_coordinates"]
         out["right_coordinates"] = section["right_coordinates"]
@@ -214,6 +215,13 @@ class FieldService:
         """The line-level check in words: how far the line heights and the check shot agree."""
         visit = self.store.visit(visit_uuid)
         unit, tolerance = visit["unit"], self.check_settings(visit["unit"]).line_tolerance
+        if visit["method"] == "rod":
+            benchmark = visit["benchmark_elevation"]
+            benchmark = ASSUMED_DATUM if benchmark is None else benchmark
+            if visit["backsight"] is None:
+                return "Level and rod: type the backsight on the benchmark."
+            hi = benchmark + visit["backsight"]
+            return f"Level and rod: height of instrument {hi:.3f} {unit} (benchmark + backsight)."
         left, right, check = visit["line_left"], visit["line_right"], visit["line_check"]
         if left is None or right is None:
             return f"Type the line elevation at both stakes (or assume {ASSUMED_DATUM:.3f})."
@@ -280,7 +288,8 @@ class FieldService:
         reading = parse_number(text, f"reading at station {station:g}")
         if reading < 0:
             raise ServiceError(
-                f"reading at station {station:g} is negative; the plumb reads down from the line"
+                f"reading at station {station:g} is negative; readings are measured downward "
+                "(plumb from the line, or rod foresight)"
             )
         existing = self.reading_at(visit_uuid, station)
         self._changed()

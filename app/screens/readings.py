@@ -66,6 +66,7 @@ class ReadingsScreen(KeypadScreen):
     code = StringProperty("")
     note = StringProperty("")
     unit = StringProperty("m")
+    method = StringProperty("line")
     decimals = NumericProperty(3)
     saved_text = StringProperty("")
     entry_state = StringProperty("none")  # none / unsaved / saved / flagged
@@ -77,6 +78,7 @@ class ReadingsScreen(KeypadScreen):
         """Open at ``station`` (or the next unread planned station)."""
         visit = self.service.visit(self.visit)
         self.unit = visit["unit"]
+        self.method = visit["method"]
         self.ids.view.flip = visit["origin"] == "right"
         self.decimals = theme.decimals_for(self.service.settings()["precision"])
         self.mode = "reading"

@@ -14,7 +14,14 @@ from core.reduction import ASSUMED_DATUM
 
 Builder.load_file(os.path.join(os.path.dirname(__file__), "stakes.kv"))
 
-NUMBER_FIELDS = ("benchmark_elevation", "line_left", "line_right", "line_check", "stake_distance")
+NUMBER_FIELDS = (
+    "benchmark_elevation",
+    "line_left",
+    "line_right",
+    "line_check",
+    "stake_distance",
+    "backsight",
+)
 COORDINATE_FIELDS = ("left_lon", "left_lat", "right_lon", "right_lat")
 
 
@@ -23,6 +30,7 @@ class StakesScreen(KeypadScreen):
 
     unit = StringProperty("m")
     origin = StringProperty("left")
+    method = StringProperty("line")
     section_title = StringProperty("")
 
     def refresh(self) -> None:
@@ -30,6 +38,7 @@ class StakesScreen(KeypadScreen):
         data = self.service.stakes(self.visit)
         self.unit = data["unit"]
         self.origin = data["origin"] or "left"
+        self.method = data["method"] or "line"
         self.section_title = f"{data['section']} · {data['site']}"
         ids = self.ids
         ids.left_stake.text = data["left_stake"] or ""
@@ -51,6 +60,11 @@ class StakesScreen(KeypadScreen):
     def set_origin(self, side: str) -> None:
         """Choose which stake the tape starts at."""
         self.origin = side
+        self.on_field_edited(None)
+
+    def set_method(self, method: str) -> None:
+        """Level line and plumb ("line") or level and rod ("rod")."""
+        self.method = method
         self.on_field_edited(None)
 
     def assume_datum(self) -> None:
@@ -75,6 +89,7 @@ class StakesScreen(KeypadScreen):
             right_stake=ids.right_stake.text.strip(),
             benchmark_name=ids.benchmark_name.text.strip(),
             origin=self.origin,
+            method=self.method,
         )
         for side in ("left", "right"):
             lon, lat = field_number(ids[f"{side}_lon"]), field_number(ids[f"{side}_lat"])

@@ -131,3 +131,25 @@ def test_bad_input_says_so_and_loses_nothing(ui, visit):
     assert section.value_text == ""
     ui.go("readings")
     assert ui.app.service.visit(visit)["station_count"] == 0
+
+
+def test_level_and_rod_method(ui, visit):
+    ui.go("stakes")
+    stakes = ui.screen
+    rod = next(c for c in stakes.walk() if getattr(c, "text", "") == "Level and rod")
+    ui.tap(rod)
+    ui.tap(stakes.ids.backsight)
+    ui.keypad("1.512")
+    ui.tap(stakes.ids.save)
+    assert stakes.tone == "saved", stakes.message
+    benchmark = ui.app.service.section_of(visit)["benchmark_elevation"]
+    hi = benchmark + 1.512  # height of instrument = benchmark + backsight (common practice)
+    assert f"{hi:.3f}" in stakes.message
+    ui.go("readings")
+    readings = ui.screen
+    assert "foresight" in ui.texts()
+    ui.keypad("2.000")
+    ui.enter()
+    record = ui.app.service.reading_at(visit, 0.0)
+    assert record["elevation"] == pytest.approx(hi - 2.0)  # elevation = HI - foresight
+    assert readings.station == 0.5
