@@ -72,6 +72,29 @@ def register(subparsers) -> None:
     )
     v.set_defaults(handler=run_visits)
 
+    c = subparsers.add_parser(
+        "conflicts",
+        help="list imported packages that conflict with the office copy",
+        description="List the unresolved conflicts in the OFFICE store: packages of a visit "
+        "(or its section or site) that was changed both in the office copy and on a device.",
+    )
+    c.add_argument("--store", required=True, metavar="OFFICE", help="the office store file")
+    c.add_argument("--json", action="store_true", help="print a JSON list of conflicts")
+    c.set_defaults(handler=run_conflicts)
+
+    r = subparsers.add_parser(
+        "resolve",
+        help="resolve one conflict: keep the office copy, or merge the package's changes in",
+        description="Resolve the conflict of the package whose checksum starts with CHECKSUM "
+        "(at least 8 characters, from 'stakeline conflicts').  --keep office leaves the office "
+        "copy as it is; --keep merge adds every change of the package that the office lacks "
+        "after the office's own, so the package's corrections win.  Nothing is deleted.",
+    )
+    r.add_argument("checksum", metavar="CHECKSUM", help="start of the package checksum")
+    r.add_argument("--store", required=True, metavar="OFFICE", help="the office store file")
+    r.add_argument("--keep", required=True, choices=("office", "merge"), help="how to resolve it")
+    r.set_defaults(handler=run_resolve)
+
 
 def run_pack(args) -> int:
     """Pack every finished visit; one line per package."""
@@ -137,4 +160,26 @@ def run_visits(args) -> int:
             f"{row['uuid']}  {row['date']}  {row['site']} / {row['section']}  "
             f"{row['station_count']} stations  {state}"
         )
+    return 0
+
+
+def run_conflicts(args) -> int:
+    """List unresolved conflicts."""
+    with _existing_store(args.store) as store:
+        conflicts = store.conflicts()
+    if args.json:
+        print(json.dumps(conflicts, indent=1))
+        return 0
+    if not conflicts:
+        print("no conflicts to resolve")
+    for entry in conflicts:
+        print(f"{entry['file_sha'][:12]}  from {entry['device']}  {entry['reason']}")
+    return 0
+
+
+def run_resolve(args) -> int:
+    """Resolve one conflict."""
+    with _existing_store(args.store) as store:
+        entry = store.resolve_conflict(args.checksum, keep=args.keep)
+    print(f"{entry['file_sha'][:12]}: resolved ({args.keep})")
     return 0

@@ -17,7 +17,7 @@ import json
 import sqlite3
 from typing import Any
 
-from core.store_values import StoreError, canonical_json, now, replay
+from core.store_values import StoreError, canonical_json, choice, now, replay
 
 RECORD_TABLES = ("sites", "sections", "visits")
 CHILD_TABLES = ("station_versions", "water_levels", "overrides")
@@ -95,14 +95,54 @@ class StoreSync:
             raise StoreError(f"no imported package with checksum {file_sha!r}")
         return json.loads(row["content"])["records"]
 
-    def resolve_conflict(self, file_sha: str) -> None:
-        """Mark a conflict resolved: a person has decided the office copy stands (the incoming
-        package stays in the log)."""
+    def resolve_conflict(self, file_sha: str, keep: str = "office") -> dict:
+        """Resolve an imported package's conflict; returns its log entry (as
+        :meth:`package_seen`).  ``file_sha`` may be a unique start of the checksum (>= 8 hex).
+
+        ``keep="office"``: the office copy stands.  ``keep="merge"``: every change in the
+        package that the office lacks (station versions, water levels, overrides, field edits of
+        the site, section and visit) is added after the office's own, so the package's
+        corrections come last and win; nothing of either copy is dropped.  The package stays in
+        the log either way.
+        """
+        choice(keep, ("office", "merge"), "keep")
+        entries = self._rows(
+            "SELECT file_sha, content, visit_uuid FROM packages WHERE status = 'conflict'"
+            " AND resolved IS NULL AND file_sha LIKE ? || '%'",
+            [file_sha if len(str(file_sha)) >= 8 else "-"],
+        )
+        if len(entries) != 1:
+            found = "several" if entries else "no"
+            raise StoreError(f"{found} unresolved conflicts match {file_sha!r}; see the list")
+        entry = entries[0]
         with self.transaction():
+            if keep == "merge":
+                self._merge_missing(json.loads(entry["content"])["records"])
             self.conn.execute(
-                "UPDATE packages SET resolved = ? WHERE file_sha = ? AND status = 'conflict'",
-                [now(), file_sha],
+                "UPDATE packages SET resolved = ?, reason = reason || ? WHERE file_sha = ?",
+                [now(), f" -- resolved: {keep}", entry["file_sha"]],
             )
+        return self.package_seen(entry["file_sha"])
+
+    def _merge_missing(self, records: dict) -> None:
+        """Add the records' changes the office lacks after the office's own (see
+        :meth:`resolve_conflict`)."""
+        for table, key in (("sites", "site"), ("sections", "section"), ("visits", "visit")):
+            uuid = records[key]["uuid"]
+            office = self._history(uuid, table)
+            missing = [e for e in records["edits"] if e["record_uuid"] == uuid]
+            missing = [e for e in missing if e["uuid"] not in office]
+            for edit in missing:
+                after = edit["after"]  # raw column values, as the store logged them
+                self._checked(table, after)  # only known columns
+                assignments = ", ".join(f"{k} = ?" for k in after)
+                self.conn.execute(
+                    f"UPDATE {table} SET {assignments}, modified = ?, device = ? WHERE uuid = ?",
+                    [*after.values(), edit["created"], edit["device"], uuid],
+                )
+            children = [(t, r) for t in CHILD_TABLES for r in records[t]] if key == "visit" else []
+            history = [("edits", e) for e in missing] + children
+            self._insert_history([(t, r) for t, r in history if r["uuid"] not in office])
 
     def import_visit_records(
         self, records: dict, file_sha: str, content_sha: str, device: str, content: str

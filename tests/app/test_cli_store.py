@@ -28,7 +28,7 @@ def test_every_store_command_has_help():
     parser = build_parser()
     commands = parser._subparsers._group_actions[0]
     helps = {a.dest: a.help for a in commands._choices_actions}
-    for name in ("pack", "import", "demo", "visits"):
+    for name in ("pack", "import", "demo", "visits", "conflicts", "resolve"):
         assert helps.get(name), f"{name} has no help line"
         sub = commands.choices[name]
         assert sub.description
@@ -119,6 +119,18 @@ def test_conflict_exits_1(tmp_path, capsys):
     assert [r["status"] for r in json.loads(out)].count("conflict") == 1
     code, out, _ = _run(capsys, "visits", "--store", office)
     assert "conflict to resolve" in out
+    code, out, _ = _run(capsys, "conflicts", "--store", office, "--json")
+    (entry,) = json.loads(out)
+    code, out, err = _run(capsys, "resolve", "abc", "--store", office, "--keep", "merge")
+    assert code == 2 and "no unresolved conflicts" in err
+    code, out, _ = _run(capsys, "resolve", entry["file_sha"][:10], "--store", office,
+                        "--keep", "merge")  # fmt: skip
+    assert code == 0 and "resolved (merge)" in out
+    code, out, _ = _run(capsys, "conflicts", "--store", office)
+    assert "no conflicts" in out
+    with Store.open(office) as store:  # B's correction came last
+        visit = store.visits()[0]["uuid"]
+        assert store.stations(visit)[0]["reading"] == 0.4
 
 
 def test_real_command_process(tmp_path):

@@ -24,7 +24,7 @@ from core.package import (
     pack_visits,
     parse_package,
 )
-from core.store import Store
+from core.store import Store, StoreError
 
 
 def _dump(store: Store) -> list[str]:
@@ -394,3 +394,42 @@ def test_any_visit_round_trips_through_a_package(tmp_path_factory, names, points
     finally:
         field.close()
         office.close()
+
+
+def test_conflict_merged_keeps_both_devices_changes(field, office, outbox, tmp_path):
+    import_files(office, [outbox])
+    visit = field.visits()[0]["uuid"]
+    field.close()
+    shutil.copy(tmp_path / "field.db", tmp_path / "second.db")
+    a = Store.open(tmp_path / "field.db")
+    b = Store.open(tmp_path / "second.db", device_id="tablet-B")
+    try:
+        stations = a.stations(visit)
+        a.correct_station(stations[2]["uuid"], reading=0.61)  # only A touches station 2
+        a.correct_station(stations[4]["uuid"], reading=1.111)  # both touch station 4
+        b.correct_station(stations[4]["uuid"], reading=1.999)
+        b.remove_station(stations[9]["uuid"])  # only B removes station 9
+        b.update_visit(visit, notes="B's notes", crew=["R. Okafor", "T. Berg"])
+        b.add_water_level(visit, 99.95, "2026-04-14T13:00")
+        pack_visits(a, tmp_path / "from-a")
+        pack_visits(b, tmp_path / "from-b")
+    finally:
+        a.close()
+        b.close()
+    import_files(office, [tmp_path / "from-a"])
+    import_files(office, [tmp_path / "from-b"])
+    (entry,) = office.conflicts()
+    resolved = office.resolve_conflict(entry["file_sha"][:12], keep="merge")
+    assert resolved["resolved"] and "resolved: merge" in resolved["reason"]
+    now = {s["uuid"]: s["reading"] for s in office.stations(visit)}
+    assert now[stations[2]["uuid"]] == 0.61  # A's change kept
+    assert now[stations[4]["uuid"]] == 1.999  # B's change comes last
+    assert stations[9]["uuid"] not in now  # B's removal applied
+    history = office.station_history(stations[4]["uuid"])
+    assert {1.111, 1.999} <= {h["reading"] for h in history}  # both kept in history
+    merged = office.visit(visit)
+    assert merged["notes"] == "B's notes" and merged["crew"] == ["R. Okafor", "T. Berg"]
+    assert 99.95 in [w["elevation"] for w in merged["water_levels"]]
+    assert office.conflicts() == [] and not merged["conflict"]
+    with pytest.raises(StoreError, match="no unresolved"):
+        office.resolve_conflict(entry["file_sha"])
