@@ -144,7 +144,7 @@ class Driver:
     def resize(self, size) -> None:
         """Resize the window and let the layout settle."""
         self.window.size = size
-        self.frames(4)
+        self.frames(8)  # wrapped text, then its height, then the layout: a few passes
 
     def screenshot(self, name: str) -> None:
         """When STAKELINE_SCREENSHOTS names a folder, save this screen in landscape and portrait."""
