@@ -153,8 +153,13 @@ class StoreVisits:
     _VISIT_SQL = """
         SELECT v.*, s.name AS section, s.site_uuid, t.name AS site, s.origin,
                s.benchmark_elevation,
-               max(v.modified, coalesce((SELECT max(created) FROM station_versions
-                                         WHERE visit_uuid = v.uuid), '')) AS modified,
+               max(v.modified,
+                   coalesce((SELECT max(created) FROM station_versions
+                             WHERE visit_uuid = v.uuid), ''),
+                   coalesce((SELECT max(created) FROM water_levels
+                             WHERE visit_uuid = v.uuid), ''),
+                   coalesce((SELECT max(created) FROM overrides
+                             WHERE visit_uuid = v.uuid), '')) AS modified,
                (SELECT count(*) FROM packages p WHERE p.visit_uuid = v.uuid
                  AND p.status = 'conflict' AND p.resolved IS NULL) AS conflicts
         FROM visits v JOIN sections s ON s.uuid = v.section_uuid JOIN sites t ON t.uuid = s.site_uuid
@@ -231,3 +236,16 @@ class StoreVisits:
         return self._rows(
             "SELECT * FROM overrides WHERE visit_uuid = ? ORDER BY created", [visit_uuid]
         )
+
+    def field_history(self, record_uuid: str) -> list[dict]:
+        """Every change to a site's, section's or visit's fields, oldest first: {uuid,
+        record_table, record_uuid, before, after (dicts of the changed fields' stored values),
+        created, modified (= created), device}."""
+        rows = self._rows(
+            "SELECT * FROM edits WHERE record_uuid = ? ORDER BY id", [str(record_uuid)]
+        )
+        for row in rows:
+            row.pop("id")
+            row["before"], row["after"] = json.loads(row["before"]), json.loads(row["after"])
+            row["modified"] = row["created"]  # a logged change is never changed itself
+        return rows

@@ -209,8 +209,11 @@ def test_visit_fields_plan_and_finish(store, visit):
     section = store.section(visit["section_uuid"])
     assert section["last_visit_date"] == "2026-04-14"
     assert section["last_visit_status"] == "finished"
-    edits = store.conn.execute("SELECT before, after FROM edits").fetchall()
-    assert any(json.loads(b).get("notes") == "" for b, _ in edits)  # old value kept
+    history = store.field_history(visit["uuid"])
+    notes = [h for h in history if "notes" in h["after"]]
+    assert notes[0]["before"]["notes"] == "" and notes[0]["after"]["notes"] == "clear water"
+    assert history[-1]["after"]["finished"] == finished["finished_at"]
+    assert all(STAMP_KEYS <= set(h) for h in history)
 
 
 def test_unit_is_fixed_once_readings_exist(store, visit):
