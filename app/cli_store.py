@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import os
+import sqlite3
 
 from core.package import SUFFIX, import_files, pack_visits
 from core.store import Store
@@ -119,7 +120,13 @@ def run_import(args) -> int:
     if os.path.isdir(args.into):
         raise CommandError(f"{args.into} is a folder; give the office store file")
     with Store.open(args.into) as store:
-        results = import_files(store, args.files)
+        try:
+            results = import_files(store, args.files)
+        except (OSError, sqlite3.DatabaseError) as exc:
+            raise CommandError(
+                f"the office store failed ({exc}); files already imported stay imported, "
+                "run the same import again"
+            ) from None
     if not results:
         raise CommandError("no package files found in the given folders")
     if args.json:
