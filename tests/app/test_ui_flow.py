@@ -35,41 +35,45 @@ def wetted_area_by_clipping(stations, elevations, level):
     return ground_to_sky.intersection(below).area
 
 
-def test_whole_survey_by_touch(ui):
-    app = ui.app
-    home = ui.screen
-    assert app.manager.current == "home"
-    ui.screenshot("home")
+PLAN = uniform_stations(10.0, 13)
+TRUE = bed_readings(PLAN)
+TYPED = TRUE.copy()
+TYPED[SPIKE_INDEX] -= SPIKE_ERROR
+SPIKE_STATION = PLAN[SPIKE_INDEX]
 
-    # --- a new section on a new site -------------------------------------------------------
-    ui.type_text(home.ids.site_name, "")
+
+def create_section(ui) -> str:
+    """Home: type a new site and section, start the visit; returns its uuid."""
+    home = ui.screen
+    assert ui.app.manager.current == "home"
+    ui.screenshot("home")
     home.ids.site_name.text = ""
     ui.type_text(home.ids.site_name, "Orrin Brook")
     ui.type_text(home.ids.section_name, "XS9 glide")
     ui.tap(home.ids.create)
-    assert app.manager.current == "stakes", home.message
-    visit = app.visit_uuid
-    stakes = ui.screen
+    assert ui.app.manager.current == "stakes", home.message
+    return ui.app.visit_uuid
 
-    # --- stakes: names, assumed line, check shot, distance ---------------------------------
+
+def set_stakes(ui, visit: str) -> None:
+    """Stakes: line heights at both stakes, the check shot and the distance, by keypad."""
+    stakes = ui.screen
     assert "as seen looking downstream" in ui.texts()
-    ui.tap(stakes.ids.line_left)  # the keypad now types the left line height
-    ui.keypad("100.000")
-    ui.tap(stakes.ids.line_right)
-    ui.keypad("100.000")
-    ui.tap(stakes.ids.line_check)
-    ui.keypad("100.002")
-    ui.tap(stakes.ids.stake_distance)
-    ui.keypad("10")
+    for field, value in (("line_left", "100.000"), ("line_right", "100.000"),
+                         ("line_check", "100.002"), ("stake_distance", "10")):  # fmt: skip
+        ui.tap(stakes.ids[field])  # the keypad now types into this field
+        ui.keypad(value)
     assert stakes.tone == "unsaved"
     ui.screenshot("stakes")
     ui.tap(stakes.ids.next)
-    assert app.manager.current == "spacing", stakes.message
-    saved = app.service.visit(visit)
+    assert ui.app.manager.current == "spacing", stakes.message
+    saved = ui.app.service.visit(visit)
     assert (saved["line_left"], saved["line_right"], saved["line_check"]) == (100.0, 100.0, 100.002)
     assert saved["stake_distance"] == 10.0
 
-    # --- spacing: 13 stations over 10 m ----------------------------------------------------
+
+def plan_stations(ui, visit: str) -> None:
+    """Spacing: 13 stations over the 10 m between the stakes, shown, used."""
     spacing = ui.screen
     assert spacing.ids.distance.text == "10.00"
     ui.tap(spacing.ids.count)
@@ -77,52 +81,49 @@ def test_whole_survey_by_touch(ui):
     ui.keypad("back")
     ui.keypad("13")
     ui.tap(spacing.ids.suggest)
-    expected_plan = uniform_stations(10.0, 13)
-    assert spacing.stations == expected_plan
+    assert spacing.stations == PLAN
     assert len(spacing.ids.plan.children) == 13  # the station list is shown
     ui.screenshot("spacing")
     ui.tap(spacing.ids.read)
-    assert app.manager.current == "readings"
-    assert app.service.plan(visit) == expected_plan
+    assert ui.app.manager.current == "readings"
+    assert ui.app.service.plan(visit) == PLAN
 
-    # --- readings: digits + one tap each, a spike at the 7th station -----------------------
+
+def enter_readings(ui, visit: str) -> None:
+    """Readings: digits + one tap each, saved at once; the spike gets flagged."""
     readings = ui.screen
-    values = bed_readings(expected_plan)
-    typed = values.copy()
-    typed[SPIKE_INDEX] -= SPIKE_ERROR
-    for station, value in zip(expected_plan, typed, strict=True):
+    for station, value in zip(PLAN, TYPED, strict=True):
         assert readings.station == station  # auto-advance put us here
         ui.keypad(f"{value:.3f}")
         assert readings.entry_state == "unsaved"
         ui.enter()  # the one tap
         # saved the moment it was accepted: it is in the store file already
-        assert app.service.reading_at(visit, station)["reading"] == pytest.approx(value)
-    ui.wait(lambda: app.service.worker.pending == 0)
+        assert ui.app.service.reading_at(visit, station)["reading"] == pytest.approx(value)
+    ui.wait(lambda: ui.app.service.worker.pending == 0)
     ui.frames(2)
-    spike_station = expected_plan[SPIKE_INDEX]
-    assert spike_station in readings.flags, readings.flags
-    row = next(r for r in readings.rows if r["station"] == spike_station)
+    assert SPIKE_STATION in readings.flags, readings.flags
+    row = next(r for r in readings.rows if r["station"] == SPIKE_STATION)
     assert row["state_text"] == "FLAGGED"
     ui.screenshot("readings")
 
-    # --- section: type the water level, figures against shapely; drag the line -------------
+
+def live_section(ui, visit: str) -> None:
+    """Section: typed and dragged water levels give the figures of shapely's clipping."""
     ui.go("section")
     section = ui.screen
     ui.keypad("99.2")
-    stations, elevations = list(expected_plan), list(LINE - typed)
+    stations, elevations = list(PLAN), list(LINE - TYPED)
     reference = wetted_area_by_clipping(stations, elevations, 99.2)
     assert section.figures["area"] == pytest.approx(reference, rel=1e-9)
     assert f"{reference:.3f} m²" in section.value_text
     assert "Wading safety" in section.ids.wading.text
     assert "licensed engineering review" in section.ids.estimate.text
     ui.tap(section.ids.record)
-    assert app.service.water_level(visit) == pytest.approx(99.2)
+    assert ui.app.service.water_level(visit) == pytest.approx(99.2)
     view = section.ids.view
     _, y = view.to_screen(0.0, 99.2)
-    x = view.center_x
-    ui.drag(view, (x, float(y)), (x, float(y) + 30))
-    assert view.water_level > 99.2
-    assert section.level == view.water_level
+    ui.drag(view, (view.center_x, float(y)), (view.center_x, float(y) + 30))
+    assert view.water_level > 99.2 and section.level == view.water_level
     dragged = wetted_area_by_clipping(stations, elevations, view.water_level)
     assert section.figures["area"] == pytest.approx(dragged, rel=1e-9)
     ui.screenshot("section")
@@ -131,46 +132,56 @@ def test_whole_survey_by_touch(ui):
     ui.keypad("99.2")
     ui.tap(section.ids.record)
 
-    # --- checks: the spike is listed; tap it, correct it, check again -----------------------
+
+def correct_the_spike(ui, visit: str) -> None:
+    """Checks: the spike is listed; tapping it opens its station; the correction clears it."""
     ui.go("checks")
     checks = ui.screen
     ui.wait(lambda: not checks.running)
     ui.frames(2)
-    kinds = {(f["kind"], f["station"]) for f in checks.findings}
-    assert ("spike", spike_station) in kinds
+    assert ("spike", SPIKE_STATION) in {(f["kind"], f["station"]) for f in checks.findings}
     ui.screenshot("checks")
-    spike_row = next(
-        w for w in checks.ids.findings.children if "spike" in w.heading and w.has_station
-    )
+    spike_row = next(w for w in checks.ids.findings.children if "spike" in w.heading)
     ui.tap(spike_row)
-    assert app.manager.current == "readings"
-    assert readings.station == spike_station
-    ui.keypad(f"{values[SPIKE_INDEX]:.3f}")
+    readings = ui.screen
+    assert ui.app.manager.current == "readings" and readings.station == SPIKE_STATION
+    ui.keypad(f"{TRUE[SPIKE_INDEX]:.3f}")
     ui.enter()
-    corrected = app.service.reading_at(visit, spike_station)
-    assert corrected["reading"] == pytest.approx(values[SPIKE_INDEX])
-    history = app.service.store.station_history(corrected["uuid"])
+    corrected = ui.app.service.reading_at(visit, SPIKE_STATION)
+    assert corrected["reading"] == pytest.approx(TRUE[SPIKE_INDEX])
+    history = ui.app.service.store.station_history(corrected["uuid"])
     assert [round(h["reading"], 3) for h in history] == [
-        round(typed[SPIKE_INDEX], 3),
-        round(values[SPIKE_INDEX], 3),
+        round(TYPED[SPIKE_INDEX], 3),
+        round(TRUE[SPIKE_INDEX], 3),
     ]  # the wrong value stays in the history
-    ui.wait(lambda: app.service.worker.pending == 0)
-    assert spike_station not in readings.flags
+    ui.wait(lambda: ui.app.service.worker.pending == 0)
+    assert SPIKE_STATION not in readings.flags
 
+
+def finish(ui, visit: str) -> None:
+    """Checks again: nothing blocks; finishing writes the package and says where."""
     ui.go("checks")
+    checks = ui.screen
     ui.wait(lambda: not checks.running)
     assert not any(f["kind"] == "spike" for f in checks.findings)
     assert checks.blocking == 0
-
-    # --- finish: the package is in the outbox ----------------------------------------------
     ui.tap(checks.ids.finish)
     ui.wait(lambda: checks.package_path != "" or "could not" in checks.message)
-    assert checks.package_path, checks.message
     path = checks.package_path
-    assert os.path.dirname(path) == app.service.outbox()
+    assert path, checks.message
+    assert os.path.dirname(path) == ui.app.service.outbox()
     assert path in checks.message
     with open(path, encoding="utf-8") as handle:
-        package = json.load(handle)
-    assert package["manifest"]["visit"] == visit
-    assert app.service.visit(visit)["finished"]
-    assert app.service.resume_point() is None
+        assert json.load(handle)["manifest"]["visit"] == visit
+    assert ui.app.service.visit(visit)["finished"]
+    assert ui.app.service.resume_point() is None
+
+
+def test_whole_survey_by_touch(ui):
+    visit = create_section(ui)
+    set_stakes(ui, visit)
+    plan_stations(ui, visit)
+    enter_readings(ui, visit)
+    live_section(ui, visit)
+    correct_the_spike(ui, visit)
+    finish(ui, visit)
