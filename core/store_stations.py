@@ -67,14 +67,17 @@ class StoreStations:
         row = {"uuid": new_uuid(), "station_uuid": new_uuid(), "visit_uuid": str(visit_uuid),
                "action": "add", **values, "seq": 0, "undoes": None, "created": stamp,
                "device": self._device}  # fmt: skip
+        params = [*list(row.values())[:8], row["visit_uuid"], stamp, self._device]
         with self.transaction():
-            datum = self._row(self._REDUCE_SQL, [row["visit_uuid"]])
-            if datum is None:
+            found = self.conn.execute(self._REDUCE_SQL, [row["visit_uuid"]]).fetchone()
+            if found is None:
                 raise StoreError(f"no visit with id {visit_uuid!r} in this store")
             # The entry number comes from the index on (visit_uuid, seq) inside the INSERT.
-            (row["seq"],) = self.conn.execute(self._ADD_SQL, list(row.values())[:-4] + [
-                row["visit_uuid"], row["created"], row["device"]]).fetchone()  # fmt: skip
-        return self._version_dict(row, row, datum)
+            (row["seq"],) = self.conn.execute(self._ADD_SQL, params).fetchone()
+        return self._version_dict(row, row, dict(zip(self._DATUM_KEYS, found, strict=True)))
+
+    _DATUM_KEYS = ("method", "line_left", "line_right", "stake_distance", "backsight", "origin",
+                   "benchmark_elevation")  # fmt: skip
 
     _ADD_SQL = """
         INSERT INTO station_versions (uuid, station_uuid, visit_uuid, action, station, reading,
