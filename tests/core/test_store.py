@@ -338,3 +338,12 @@ def test_close_does_not_wait_for_another_reader(tmp_path):
     main_store.close()
     with Store.open(path) as again:
         assert len(again.visits()) == 3
+
+
+def test_new_uuids_are_unique_random_version_4():
+    from core.store_values import new_uuid
+
+    made = [uuid.UUID(new_uuid()) for _ in range(5000)]
+    assert len(set(made)) == len(made)
+    # RFC 4122: version 4 (random), variant bits 10.
+    assert all(u.version == 4 and u.variant == uuid.RFC_4122 for u in made)
