@@ -130,7 +130,7 @@ def main() -> int:
     parser.add_argument("--packages", type=int, default=1000, help="packages to import")
     args = parser.parse_args()
     missed = 0
-    with tempfile.TemporaryDirectory(prefix="stakeline-bench-", dir=Path.cwd()) as tmp:
+    with tempfile.TemporaryDirectory(prefix="stakeline-bench-") as tmp:
         folder = Path(tmp)
         ours, bare = write_latency(folder)
         ratio = ours / bare
