@@ -54,6 +54,8 @@ class ChecksScreen(BaseScreen):
 
     def _show(self, findings: list[dict]) -> None:
         self.running = False
+        if not self.visit:  # the crew left the visit while the checks ran
+            return
         self.findings = findings
         self.blocking = len(self.service.blocking(findings))
         counts = {s: sum(f["severity"] == s for f in findings) for s in SEVERITY_WORDS}
