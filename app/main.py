@@ -23,9 +23,16 @@ SCREENS = ("home", "settings", "stakes", "spacing", "readings", "section", "chec
 
 
 def data_folder(app: App) -> str:
-    """The app's data folder, with its parent created first (Kivy's own mkdir is not recursive)."""
-    base = os.environ.get("XDG_CONFIG_HOME") or os.path.expanduser("~/.config")
-    os.makedirs(base, exist_ok=True)
+    """The app's data folder, with its parent created first (Kivy's own mkdir is not recursive).
+
+    On Linux Kivy puts it in ``$XDG_CONFIG_HOME`` (or ``~/.config``), which may not exist yet on
+    a fresh machine; elsewhere (Android, macOS, Windows) the platform folder already exists.
+    """
+    from kivy.utils import platform
+
+    if platform == "linux":
+        base = os.environ.get("XDG_CONFIG_HOME") or os.path.expanduser("~/.config")
+        os.makedirs(base, exist_ok=True)
     return app.user_data_dir
 
 
