@@ -110,18 +110,34 @@ class Store(StoreVisits, StoreStations, StoreSync):
         conn = sqlite3.connect(":memory:", isolation_level=None)
         return cls(sqlite_utils.Database(conn), None, device_id)
 
+    def checkpoint(self) -> bool:
+        """Copy the WAL journal into the main file and empty it (``wal_checkpoint(TRUNCATE)``).
+
+        Called when the app pauses or stops, so a tablet that is then killed leaves one
+        self-contained file.  Returns True when the journal was fully copied and truncated;
+        False when another connection kept it busy (nothing is lost: the next checkpoint
+        finishes it).  An in-memory store has no journal file: True.
+        """
+        if self.closed:
+            raise StoreError("the store is closed; open it again to checkpoint")
+        if self.path is None:
+            return True
+        # Another connection still reading must not stall a pause or a close: wait briefly,
+        # and leave the rest of the WAL to the next checkpoint if it is busy.
+        self.conn.execute("PRAGMA busy_timeout = 200")
+        try:
+            busy, _pages, _copied = self.conn.execute("PRAGMA wal_checkpoint(TRUNCATE)").fetchone()
+        except sqlite3.OperationalError:
+            return False
+        finally:
+            self.conn.execute("PRAGMA busy_timeout = 10000")
+        return busy == 0
+
     def close(self) -> None:
         """Checkpoint the WAL into the main file (TRUNCATE) and close; closing twice is fine."""
         if self.closed:
             return
-        if self.path is not None:
-            # Another connection still reading must not stall closing: wait briefly, and
-            # leave the rest of the WAL to the next checkpoint if it is busy.
-            self.conn.execute("PRAGMA busy_timeout = 200")
-            try:
-                self.conn.execute("PRAGMA wal_checkpoint(TRUNCATE)").fetchall()
-            except sqlite3.OperationalError:
-                pass
+        self.checkpoint()
         self.conn.close()
         self.closed = True
 

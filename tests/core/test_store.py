@@ -347,3 +347,42 @@ def test_new_uuids_are_unique_random_version_4():
     assert len(set(made)) == len(made)
     # RFC 4122: version 4 (random), variant bits 10.
     assert all(u.version == 4 and u.variant == uuid.RFC_4122 for u in made)
+
+
+def test_checkpoint_empties_the_journal(tmp_path):
+    # SQLite's WAL mode: wal_checkpoint(TRUNCATE) copies the journal into the main file and
+    # truncates the -wal file to zero bytes (sqlite.org, "PRAGMA wal_checkpoint").
+    import os
+    import shutil
+
+    path = tmp_path / "device.sqlite"
+    wal = tmp_path / "device.sqlite-wal"
+    with Store.open(path) as store:
+        store.load_demo()
+        visit = store.visits()[0]["uuid"]
+        store.add_water_level(visit, 99.5)
+        assert wal.exists() and os.path.getsize(wal) > 0  # the writes sit in the journal
+        assert store.checkpoint() is True
+        assert not wal.exists() or os.path.getsize(wal) == 0
+        store.save_station(visit, 99.0, 0.5)  # the store keeps working after a checkpoint
+        assert store.checkpoint() is True
+        assert not wal.exists() or os.path.getsize(wal) == 0
+        levels = len(store.visit(visit)["water_levels"])
+        # The main file alone (copied without any journal) now holds every write.
+        shutil.copyfile(path, tmp_path / "copy.sqlite")
+    plain = sqlite3.connect(tmp_path / "copy.sqlite")
+    try:
+        query = "SELECT count(*) FROM water_levels WHERE visit_uuid = ?"
+        assert plain.execute(query, [visit]).fetchone()[0] == levels
+        query = "SELECT count(*) FROM station_versions WHERE visit_uuid = ? AND station = 99.0"
+        assert plain.execute(query, [visit]).fetchone()[0] == 1
+    finally:
+        plain.close()
+
+
+def test_checkpoint_of_memory_and_closed_stores():
+    store = Store.memory()
+    assert store.checkpoint() is True  # no journal file: nothing to do
+    store.close()
+    with pytest.raises(StoreError, match="closed"):
+        store.checkpoint()
