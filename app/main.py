@@ -18,7 +18,7 @@ from kivy.uix.screenmanager import NoTransition, ScreenManager, SlideTransition
 
 from app import theme
 
-SCREENS = ("home", "settings", "stakes", "spacing", "readings", "section", "checks")
+SCREENS = ("home", "settings", "stakes", "spacing", "readings", "section", "checks", "detail")
 """Screen names; each is ``app/screens/<name>.py`` with a ``<Name>Screen`` class and a .kv."""
 
 
@@ -103,15 +103,19 @@ class StakelineApp(App):
         return bool(handler and handler(key, codepoint))
 
     def on_pause(self):
-        """Keep running when the tablet switches apps (every reading is already saved)."""
+        """Keep running when the tablet switches apps (every reading is already saved); fold the
+        store's journal into its file first, in case the system then kills the app."""
+        if self.service is not None:
+            self.service.checkpoint()
         return True
 
     def on_stop(self):
-        """Close the store cleanly (checkpoints the journal)."""
+        """Checkpoint the store's journal and close the store cleanly."""
         Window.unbind(on_key_down=self._on_key_down)
         if self.service is not None:
             self.service.worker.cancelled = True
-            self.service.store.close()
+            self.service.checkpoint()
+            self.service.close()
             self.service = None
 
 

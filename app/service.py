@@ -45,6 +45,17 @@ DEFAULT_SETTINGS = {
 """Device settings and their defaults (``precision`` and ``line_tolerance`` in the survey unit;
 ``line_tolerance`` None means the field checks' default for the unit)."""
 
+META_KEYS = (
+    "unit",
+    "method",
+    "line_left",
+    "line_right",
+    "line_check",
+    "stake_distance",
+    "origin",
+)
+"""Visit fields the field checks read (line heights, and where the stakes are on the tape)."""
+
 POSITION_KEY = "field.position"
 """Setting that remembers the open visit and the station being read, for resuming after a crash."""
 
@@ -84,6 +95,19 @@ class FieldService:
                 raise ServiceError("minimum stations across the water must be at least 2")
             self.store.set_setting(key, value)
         return self.settings()
+
+    def checkpoint(self) -> bool:
+        """Fold the store's journal into its file (app paused or stopping); True when done."""
+        if self.store.closed:
+            return False
+        try:
+            return self.store.checkpoint()
+        except SurveyError:
+            return False
+
+    def close(self) -> None:
+        """Close the store (checkpointing its journal)."""
+        self.store.close()
 
     def outbox(self) -> str:
         """Folder for finished visit packages (created when first used)."""
@@ -390,9 +414,9 @@ class FieldService:
             "codes": [r["code"] for r in rows],
             "readings": [r["reading"] for r in rows],
             "stage": self.water_level(visit_uuid),
-            "meta": {
-                k: visit[k] for k in ("unit", "method", "line_left", "line_right", "line_check")
-            },
+            # stake distance and origin place a sloping line between the stakes, so the
+            # line-minus-reading check can run on it
+            "meta": {k: visit[k] for k in META_KEYS},
             "settings": self.check_settings(visit["unit"]),
         }
 
