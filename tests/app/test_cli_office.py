@@ -256,9 +256,11 @@ def test_export_writes_three_files(capsys, demo_store, tmp_path):
         "stations.csv",
     ]
     doc = json.loads(next((tmp_path / "x").glob("*.geojson")).read_text())
-    assert doc["type"] == "FeatureCollection" and len(doc["features"]) == 3 + 27
+    stations = 35  # the demo's XS1 visit of 2026-09-22
+    assert doc["type"] == "FeatureCollection"
+    assert len(doc["features"]) == 3 + stations  # section line, two stakes, the stations
     rows = read_section_csv(next((tmp_path / "x").glob("*_stations.csv")))
-    assert len(rows.stations) == 27 and rows.extra["unit"][0] == "m"
+    assert len(rows.stations) == stations and rows.extra["unit"][0] == "m"
 
 
 def test_report_pdf_and_png(capsys, demo_store, tmp_path):

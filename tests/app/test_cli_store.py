@@ -48,9 +48,9 @@ def test_demo_then_visits_json(tmp_path, capsys):
     assert all(set(r) == {"uuid", "site", "section", "date", "station_count", "finished"}
                for r in rows)  # fmt: skip
     assert [(r["section"], r["date"], r["station_count"]) for r in rows] == [
-        ("XS1 riffle", "2026-04-14", 27),
+        ("XS1 riffle", "2026-04-14", 33),
         ("XS2 pool", "2026-04-14", 29),
-        ("XS1 riffle", "2026-09-22", 27),
+        ("XS1 riffle", "2026-09-22", 35),
     ]
     code, out, _ = _run(capsys, "visits", "--store", store)
     assert code == 0 and out.count("finished") == 3

@@ -279,7 +279,7 @@ def test_older_package_after_newer_changes_nothing(field, office, outbox, tmp_pa
     before = _dump(office)
     results = import_files(office, [_one(tmp_path / "old", "2026-04-14_xs1")])
     assert results[0]["status"] == "present" and "office copy is newer" in results[0]["message"]
-    assert office.visit(visit)["station_count"] == 26
+    assert office.visit(visit)["station_count"] == 32  # demo XS1 2026-04-14 (33) less one
     rows_before = [r for r in before if 'INSERT INTO "packages"' not in r]
     assert [r for r in _dump(office) if 'INSERT INTO "packages"' not in r] == rows_before
 
@@ -328,7 +328,7 @@ def test_a_rejected_file_in_a_batch_leaves_no_trace(office, outbox, tmp_path):
     assert [r["status"] for r in results] == ["imported", "rejected", "imported"]
     assert "clash" in results[1]["message"]
     assert len(office.visits()) == 3
-    assert office.visit(first["visit"]["uuid"])["station_count"] == 27
+    assert office.visit(first["visit"]["uuid"])["station_count"] == 33  # demo XS1 2026-04-14
 
 
 def test_section_edited_on_two_devices_is_reported(field, office, outbox, tmp_path):

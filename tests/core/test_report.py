@@ -110,7 +110,7 @@ def test_pages_carry_cautions_units_and_n_note(demo):
         slope=0.004,
     )
     pages = report_pages.draw_pages(data)
-    assert len(pages) == 4
+    assert len(pages) >= 4  # the stations table runs on as long as the survey needs
     first = all_text(pages[0])
     for caution in CAUTIONS:
         assert caution.split(".")[0][:40] in first.replace("\n", " ")

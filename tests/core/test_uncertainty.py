@@ -96,7 +96,11 @@ def test_precision_defaults_and_validation():
 
 
 @settings(max_examples=60, deadline=None)
-@given(st.lists(st.floats(0.0, 3.0), min_size=3, max_size=30), st.floats(0.0, 3.0))
+# Readings to the micrometre: sub-micrometre rises are flat by design in core.geometry.
+@given(
+    st.lists(st.floats(0.0, 3.0).map(lambda v: round(v, 6)), min_size=3, max_size=30),
+    st.floats(0.0, 3.0).map(lambda v: round(v, 6)),
+)
 def test_vectorised_figures_match_the_geometry_core(depths, stage):
     z = np.array([3.0, *depths, 3.0])
     x = np.linspace(0.0, 10.0, z.size)
