@@ -14,6 +14,7 @@ from dataclasses import dataclass, fields
 import numpy as np
 
 from core.errors import SectionError, SurveyError
+from core.geometry import point_array
 from core.reduction import check_unit
 
 SEVERITIES = ("block", "warn", "note")
@@ -190,19 +191,7 @@ def _new_station(value: float, unit: str) -> str:
 
 # ---------------------------------------------------------------------------------------- input
 def _as_array(values, name: str, n: int | None = None) -> np.ndarray:
-    try:
-        arr = np.asarray(values, dtype=float)
-    except (TypeError, ValueError):
-        for i, v in enumerate(values):
-            try:
-                float(v)
-            except (TypeError, ValueError):
-                raise SectionError(
-                    f"point {i + 1}: {name} {v!r} is not a number", index=i
-                ) from None
-        raise SectionError(f"{name} are not a sequence of numbers") from None
-    if arr.ndim != 1:
-        raise SectionError(f"{name} must be a 1-D sequence, got shape {arr.shape}")
+    arr = point_array(values, name, finite=False)
     if n is not None and arr.size != n:
         raise SectionError(f"{arr.size} {name} for {n} stations: give one per station")
     return arr

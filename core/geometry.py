@@ -69,7 +69,11 @@ class WaterSection:
         return out
 
 
-def _as_points(values: Sequence[float], name: str) -> np.ndarray:
+def point_array(values: Sequence[float], name: str, finite: bool = True) -> np.ndarray:
+    """``values`` as a 1-D float array; a :class:`SectionError` names the first bad point (1-based).
+
+    ``name`` is the quantity for messages (``"station"``); with ``finite`` NaN and inf are refused.
+    """
     try:
         arr = np.asarray(values, dtype=float)
     except (TypeError, ValueError):
@@ -83,8 +87,8 @@ def _as_points(values: Sequence[float], name: str) -> np.ndarray:
         raise SectionError(f"{name} are not a sequence of numbers") from None
     if arr.ndim != 1:
         raise SectionError(f"{name} must be a 1-D sequence, got shape {arr.shape}")
-    bad = np.flatnonzero(~np.isfinite(arr))
-    if bad.size:
+    bad = np.flatnonzero(~np.isfinite(arr)) if finite else ()
+    if len(bad):
         i = int(bad[0])
         raise SectionError(f"point {i + 1}: {name} {arr[i]} is not a finite number", index=i)
     return arr
@@ -99,8 +103,8 @@ class Section:
     """
 
     def __init__(self, stations: Sequence[float], elevations: Sequence[float]):
-        x = _as_points(stations, "station")
-        z = _as_points(elevations, "elevation")
+        x = point_array(stations, "station")
+        z = point_array(elevations, "elevation")
         if x.size != z.size:
             raise SectionError(
                 f"{x.size} stations but {z.size} elevations: every station needs one elevation"
