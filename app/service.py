@@ -14,6 +14,7 @@ from datetime import date
 
 import numpy as np
 
+from app.service_office import OfficeFigures
 from app.service_util import (  # noqa: F401  (re-exported for the screens)
     ServiceError,
     Worker,
@@ -60,8 +61,9 @@ POSITION_KEY = "field.position"
 """Setting that remembers the open visit and the station being read, for resuming after a crash."""
 
 
-class FieldService:
-    """Everything the screens do with a visit, on one open store.
+class FieldService(OfficeFigures):
+    """Everything the screens do with a visit, on one open store (the office figures of the
+    section-detail screen come from :class:`app.service_office.OfficeFigures`).
 
     ``store`` is an open :class:`core.store.Store`; ``outbox`` the folder finished packages go to
     when the settings do not name one.
@@ -115,11 +117,15 @@ class FieldService:
 
     # --- home -------------------------------------------------------------------------------
     def overview(self) -> list[dict]:
-        """Sections with their site, last visit date and status, and the open visit if any."""
+        """Sections with their site, last visit date and status, the open visit if any, and the
+        latest finished visit (``finished_visit``, for its office figures) if any."""
         open_visits: dict[str, str] = {}
+        finished: dict[str, str] = {}  # section -> its latest finished visit with a ground line
         for visit in self.store.visits():
             if not visit["finished"]:
                 open_visits[visit["section_uuid"]] = visit["uuid"]
+            elif visit["station_count"] >= 2:
+                finished[visit["section_uuid"]] = visit["uuid"]
         rows = []
         for section in self.store.sections():
             rows.append(
@@ -130,6 +136,7 @@ class FieldService:
                     "last_date": section.get("last_visit_date") or "",
                     "last_status": section.get("last_visit_status") or "",
                     "open_visit": open_visits.get(section["uuid"]),
+                    "finished_visit": finished.get(section["uuid"]),
                 }
             )
         return rows

@@ -18,10 +18,14 @@ class SectionRow(BoxLayout):
     title = StringProperty("")
     detail = StringProperty("")
     button_text = StringProperty("")
-    __events__ = ("on_choose",)
+    figures_visit = StringProperty("")
+    __events__ = ("on_choose", "on_figures")
 
     def on_choose(self, *_args):
         """Default handler: nothing (the home screen binds its own)."""
+
+    def on_figures(self, *_args):
+        """Default handler: nothing (the home screen opens the office figures)."""
 
 
 Builder.load_file(os.path.join(os.path.dirname(__file__), "home.kv"))
@@ -45,8 +49,10 @@ class HomeScreen(BaseScreen):
                 title=f"[b]{row['section']}[/b]  ·  {row['site']}",
                 detail=f"Last visit {row['last_date'] or '—'}  ·  {status}",
                 button_text="Continue visit" if row["open_visit"] else "Start visit",
+                figures_visit=row["finished_visit"] or "",
             )
             item.bind(on_choose=lambda _w, r=row: self.choose(r))
+            item.bind(on_figures=lambda w: self.figures(w.figures_visit))
             box.add_widget(item)
         if rows and not self.ids.site_name.text:
             self.ids.site_name.text = rows[0]["site"]
@@ -65,6 +71,12 @@ class HomeScreen(BaseScreen):
         visit = self.attempt(self.service.start_visit, row["section_uuid"])
         if visit:
             self.app.open_visit(visit, "stakes")
+
+    def figures(self, visit_uuid: str) -> None:
+        """Open the office figures of a finished visit (Back returns home)."""
+        if visit_uuid:
+            self.app.visit_uuid = visit_uuid
+            self.app.go("detail", back="home")
 
     def resume(self) -> None:
         """Go back to the visit and station that were open."""

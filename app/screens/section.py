@@ -106,6 +106,10 @@ class SectionScreen(KeypadScreen):
         if level is not None:
             self.say(f"Recorded water level {level:.3f} {self.unit}.", "saved")
 
+    def open_detail(self) -> None:
+        """Show the office figures at the level shown here (Back returns to this screen)."""
+        self.app.go("detail", back="section", level=self.level)
+
     def error_colour(self):
         """Colour of the figures text (red when the level cannot be used)."""
         return theme.DANGER if "error" in self.figures else theme.INK

@@ -10,7 +10,7 @@ from kivy.uix.scrollview import ScrollView
 
 LANDSCAPE, PORTRAIT, LAPTOP = (1280, 800), (800, 1280), (1920, 1080)
 
-SCREENS = ("home", "settings", "stakes", "spacing", "readings", "section", "checks")
+SCREENS = ("home", "settings", "stakes", "spacing", "readings", "section", "checks", "detail")
 
 
 def _in_scroller(widget) -> bool:
@@ -82,3 +82,10 @@ def test_values_are_large(ui, visit_with_readings):
     field = ui.screen.ids.line_left
     value_label = field.children[0]  # the number itself (the caption is above it)
     assert value_label.font_size >= sp(24)
+    demo = [v for v in ui.app.service.store.visits() if v["finished"]][-1]
+    ui.app.visit_uuid = demo["uuid"]  # a whole section at its recorded level: every figure shows
+    ui.go("detail")
+    ui.wait(lambda: not ui.screen.running)
+    ui.frames(2)
+    rows = [w for w in ui.screen.ids.results.children if hasattr(w, "value")]
+    assert rows and all(row.ids.value_label.font_size >= sp(24) for row in rows)

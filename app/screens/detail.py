@@ -1,0 +1,245 @@
+"""Office figures of one visit: wetted figures with their ± bands at a water level, discharge and
+the figures built on it for a chosen roughness row and energy slope, the bankfull summary and the
+change since the section's earlier visit -- with the caution that they are estimates.
+
+Every figure comes from the service (:class:`app.service_office.OfficeFigures`), computed on the
+worker thread; this screen only shows them.
+"""
+
+from __future__ import annotations
+
+import os
+
+from kivy.lang import Builder
+from kivy.properties import BooleanProperty, DictProperty, StringProperty
+from kivy.uix.boxlayout import BoxLayout
+
+from app.screens.base import KeypadScreen
+from app.service import ServiceError
+from app.widgets.common import Caption, Chip
+from core.errors import SurveyError
+
+
+class FigureRow(BoxLayout):
+    """One figure: its name on the left, the value (with ± and unit) large on the right."""
+
+    name = StringProperty("")
+    value = StringProperty("")
+
+
+class RoughnessChip(Chip):
+    """A row of the roughness table; ``key`` names it (see :data:`core.roughness.ROUGHNESS`)."""
+
+    key = StringProperty("")
+
+
+Builder.load_file(os.path.join(os.path.dirname(__file__), "detail.kv"))
+
+
+def value_text(row: dict, decimals: int = 3) -> str:
+    """``"7.687 ± 0.027 m²"`` for a figure row from the service (sign shown for changes)."""
+    value = row["value"]
+    if abs(value) < 0.5 * 10.0**-decimals:
+        value = 0.0  # no "-0.000"
+    sign = "+" if row.get("signed") and value > 0 else ""
+    text = f"{sign}{value:.{decimals}f}"
+    if row.get("plus_minus") is not None:
+        text += f" ± {row['plus_minus']:.{decimals}f}"
+    return f"{text} {row['unit']}" if row["unit"] else text
+
+
+def name_text(row: dict) -> str:
+    """The figure's name; a figure without a unit says it is dimensionless."""
+    return row["name"] if row["unit"] else f"{row['name']} (dimensionless)"
+
+
+class DetailScreen(KeypadScreen):
+    """Office figures at a typed water level for a chosen roughness row and energy slope."""
+
+    unit = StringProperty("m")
+    heading = StringProperty("")
+    place = StringProperty("")
+    caution = StringProperty("")
+    back = StringProperty("home")
+    roughness_key = StringProperty("")
+    running = BooleanProperty(False)
+    figures = DictProperty({})
+
+    _token = 0
+    _again = False
+    _inputs: dict = {}
+
+    def prepare(self, back: str | None = None, level: float | None = None, **options) -> None:
+        """``back``: the screen the Back button returns to (``"home"`` or ``"section"``);
+        ``level``: the water level to start at (default: the visit's recorded level)."""
+        if back is not None:
+            self.back = back
+        self._start_level = level
+        super().prepare(**options)
+
+    def refresh(self) -> None:
+        """Read the visit's ground and levels, then compute the figures at the starting level."""
+        self._token += 1  # a result still on its way belongs to the screen as it was
+        self.running = self._again = False
+        self._inputs = self.service.office_inputs(self.visit)
+        inputs = self._inputs
+        self.unit, self.caution = inputs["unit"], inputs["caution"]
+        self.heading = f"Office figures · {inputs['section']}"
+        self.place = f"{inputs['site']} · visit of {inputs['date']}"
+        self._build_chips()
+        level = self._start_level if self._start_level is not None else inputs["recorded_level"]
+        self.ids.level_field.text = "" if level is None else f"{level:.3f}"
+        self.activate(self.ids.level_field)
+        if level is None:
+            self.say("No water level recorded on this visit: type one.", "unsaved")
+        elif self._start_level is None:
+            self.say(f"At the recorded water level {level:.3f} {self.unit}.", "none")
+        else:
+            self.say(f"At the water level from the section screen, {level:.3f} {self.unit}.")
+        self.recompute()
+
+    def _build_chips(self) -> None:
+        box = self.ids.chips
+        if box.children:
+            return
+        for row in self.service.roughness_rows():
+            chip = RoughnessChip(text=row["label"], key=row["key"], group="roughness")
+            chip.bind(on_release=self.choose)
+            box.add_widget(chip)
+
+    def choose(self, chip: RoughnessChip) -> None:
+        """A roughness row tapped (tapping the chosen one again clears it)."""
+        self.roughness_key = chip.key if chip.state == "down" else ""
+        self.recompute()
+
+    def on_field_edited(self, field) -> None:
+        """A typed level or slope: new figures."""
+        self.recompute()
+
+    def next_field(self) -> None:
+        """Keypad enter: type into the other field."""
+        other = self.ids.slope_field if self.active_field is self.ids.level_field else None
+        self.activate(other or self.ids.level_field)
+
+    def recompute(self) -> None:
+        """Ask the service for the figures (worker thread); at most one request runs at a time,
+        and the latest typing is computed when it returns."""
+        if self.running:
+            self._again = True
+            return
+        self._again = False
+        self._token += 1
+        token = self._token
+        try:
+            self.service.office_figures_async(
+                self._inputs,
+                self.ids.level_field.text,
+                self.roughness_key or None,
+                self.ids.slope_field.text,
+                lambda figures: self._show(token, figures),
+                lambda exc: self._failed(token, exc),
+            )
+        except (ServiceError, SurveyError, ValueError) as exc:
+            self.say(str(exc), "flagged")
+            self._show_rows({"error": str(exc)})
+            return
+        self.running = True
+
+    def _show(self, token: int, figures: dict) -> None:
+        if token != self._token or not self.visit:
+            return  # the screen moved on (another visit, or the crew left)
+        self.running = False
+        if self._again:
+            self.recompute()
+            return
+        self.figures = figures
+        self._show_rows(figures)
+        if "error" in figures:
+            self.say(figures["error"], "flagged")
+        elif self.tone == "flagged":
+            self.say("")
+
+    def _failed(self, token: int, exc: Exception) -> None:
+        if token != self._token:
+            return
+        self.running = False
+        self.say(f"The figures could not be computed: {exc}", "flagged")
+
+    # --- showing the figures -------------------------------------------------------------------
+    def _show_rows(self, figures: dict) -> None:
+        box = self.ids.results
+        box.clear_widgets()
+        if "error" in figures:
+            box.add_widget(Caption(text=figures["error"]))
+            return
+        unit = figures["unit"]
+        precision = figures["precision"]
+        self._heading(f"At water level {figures['level']:.3f} {unit}")
+        self._rows(figures["geometry"])
+        self._note(
+            f"± is twice the standard uncertainty (about 95 %) carried from readings "
+            f"±{precision['reading']:.3f} {unit} and stations ±{precision['station']:.3f} {unit}."
+        )
+        self._flow(figures)
+        self._heading("Bankfull")
+        if "bankfull" in figures:
+            self._rows(figures["bankfull"]["rows"])
+        else:
+            self._note(figures["bankfull_note"])
+        if "change" in figures:
+            change = figures["change"]
+            self._heading(f"Change since the visit of {change['date']}")
+            self._note(
+                f"Over stations {change['start']:.3f} to {change['end']:.3f} {unit}, both visits "
+                "on the same benchmark."
+            )
+            self._rows(change["rows"])
+        else:
+            self._heading("Change since an earlier visit")
+            self._note(figures["change_note"])
+
+    def _flow(self, figures: dict) -> None:
+        self._heading("Flow (Manning's equation, uniform flow)")
+        if "flow" not in figures:
+            self._note(figures["flow_note"])
+            return
+        row, unit = figures["roughness"], figures["unit"]
+        self._note(
+            f"Roughness: {row['description']}. Manning's n {row['minimum']:g} low · "
+            f"{row['normal']:g} normal · {row['maximum']:g} high. Source: {row['source']} "
+            f"Energy slope {figures['slope']:g}."
+        )
+        if figures["splits"]:
+            stations = " and ".join(f"{s:.3f}" for s in figures["splits"])
+            self._note(
+                f"Divided at the bank tops (stations {stations} {unit}): conveyance summed by "
+                "subsection, the normal n in each."
+            )
+        self._rows(figures["flow"])
+        spread = figures["n_range"]
+        self._rows(
+            [
+                {"name": f"Discharge at low n {spread['low_n']:g}", "unit": spread["unit"],
+                 "value": spread["discharge_low_n"]},
+                {"name": f"Discharge at high n {spread['high_n']:g}", "unit": spread["unit"],
+                 "value": spread["discharge_high_n"]},
+            ]
+        )  # fmt: skip
+        self._note(spread["sentence"], strong=True)
+
+    def _heading(self, text: str) -> None:
+        self.ids.results.add_widget(Caption(text=f"[b]{text}[/b]"))
+
+    def _note(self, text: str, strong: bool = False) -> None:
+        self.ids.results.add_widget(Caption(text=text, soft=not strong))
+
+    def _rows(self, rows: list[dict]) -> None:
+        for row in rows:
+            self.ids.results.add_widget(FigureRow(name=name_text(row), value=value_text(row)))
+
+    def go_back(self) -> None:
+        """Back to the section screen, or home (leaving the visit) when opened from home."""
+        if self.back == "section":
+            self.app.go("section")
+        else:
+            self.app.close_visit()
