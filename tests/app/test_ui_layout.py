@@ -40,7 +40,7 @@ def visit_with_readings(ui):
     service.save_plan(visit, [i * 0.5 for i in range(21)])
     for i, reading in enumerate([0.3, 0.5, 0.9, 1.2, 1.4, 1.45, 1.5, 1.42]):
         service.save_reading(visit, i * 0.5, f"{reading}")
-    service.record_water_level(visit, "100.0")
+    service.record_water_level(visit, "99.8")
     ui.app.visit_uuid = visit
     return visit
 
@@ -56,6 +56,7 @@ def test_targets_fit_and_are_big_enough(ui, visit_with_readings, size):
         ui.wait(lambda: ui.app.service.worker.pending == 0)
         ui.frames(2)
         screen = ui.screen
+        fixed = []  # targets outside scrolling lists: (label, window rectangle)
         for widget in screen.walk(restrict=True):
             if not isinstance(widget, ButtonBehavior) or not _shown(widget):
                 continue
@@ -68,6 +69,12 @@ def test_targets_fit_and_are_big_enough(ui, visit_with_readings, size):
             assert left >= -1 and bottom >= -1, label
             assert left + widget.width <= width + 1, label
             assert bottom + widget.height <= height + 1, label
+            fixed.append((label, (left, bottom, left + widget.width, bottom + widget.height)))
+        for i, (label, a) in enumerate(fixed):  # no target drawn over another
+            for other, b in fixed[i + 1 :]:
+                overlap_x = min(a[2], b[2]) - max(a[0], b[0])
+                overlap_y = min(a[3], b[3]) - max(a[1], b[1])
+                assert overlap_x <= 1 or overlap_y <= 1, f"{label} overlaps {other}"
     ui.resize(LANDSCAPE)
 
 
