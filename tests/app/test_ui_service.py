@@ -1,9 +1,11 @@
-"""The service layer's pure parts: typed numbers, station plans, and the doctests of the UI
-helpers (keypad editing, water strip)."""
+"""The service layer: its pure parts (typed numbers, station plans, the doctests of the UI
+helpers), and the field service on a real store file (field-check inputs, checkpoints, the office
+figures of the section-detail screen)."""
 
 from __future__ import annotations
 
 import doctest
+import math
 
 import numpy as np
 import pytest
@@ -133,3 +135,125 @@ def test_app_checkpoints_when_paused(ui, data_dir):
     assert os.path.getsize(wal) > 0
     assert ui.app.on_pause() is True  # keeps running while the tablet shows another app
     assert os.path.getsize(wal) == 0
+
+
+# --- office figures (section-detail screen) --------------------------------------------------
+TRAPEZOID = [(0.0, 1.0, "bank_top"), (3.0, 2.5, ""), (7.0, 2.5, ""), (10.0, 1.0, "bank_top")]
+"""(station, reading, code) under a level line at 100.000 m: a trapezoid with a 4 m bed at 97.5 m,
+side slopes 2H:1V and bank tops at 99.0 m."""
+
+
+def _trapezoid_visit(service, date: str, lower_bed: float = 0.0) -> str:
+    section = next((s for s in service.overview() if s["section"] == "XS-trapezoid"), None) or {
+        "section_uuid": service.create_section("Orrin Brook", "XS-trapezoid")["uuid"]
+    }
+    visit = service.start_visit(section["section_uuid"], today=date)
+    service.save_stakes(visit, line_left=100.0, line_right=100.0)
+    for station, reading, code in TRAPEZOID:
+        deeper = lower_bed if code == "" else 0.0
+        service.save_reading(visit, station, str(reading + deeper), code=code)
+    service.record_water_level(visit, "98.5")
+    return visit
+
+
+def test_office_figures_of_a_trapezoid(field):
+    # Trapezoid, bottom b = 4 m, side slope z = 2, depth y = 1 m: A = (b + z·y)·y,
+    # P = b + 2y·√(1 + z²), T = b + 2z·y (Chow 1959, Table 2-1); Manning's equation
+    # Q = (1/n)·A·R^(2/3)·S^(1/2) in SI units (Chow 1959, eq. 5-7).
+    first = _trapezoid_visit(field, "2026-05-01")
+    later = _trapezoid_visit(field, "2026-10-01", lower_bed=0.2)
+    inputs = field.office_inputs(first)
+    assert inputs["recorded_level"] == pytest.approx(98.5) and inputs["earlier"] is None
+    b, z, y, n, slope = 4.0, 2.0, 1.0, 0.040, 0.002
+    area, perimeter, top = (b + z * y) * y, b + 2 * y * math.sqrt(1 + z * z), b + 2 * z * y
+    out = field.office_figures(inputs, 98.5, "clean-winding", slope)
+    geometry = {row["key"]: row for row in out["geometry"]}
+    assert geometry["area"]["value"] == pytest.approx(area, rel=1e-12)
+    assert geometry["area"]["unit"] == "m²" and geometry["top_width"]["unit"] == "m"
+    assert geometry["wetted_perimeter"]["value"] == pytest.approx(perimeter, rel=1e-12)
+    assert geometry["top_width"]["value"] == pytest.approx(top, rel=1e-12)
+    assert all(row["plus_minus"] > 0 for row in out["geometry"])
+    manning = area * (area / perimeter) ** (2 / 3) * math.sqrt(slope) / n
+    flow = {row["key"]: row for row in out["flow"]}
+    assert flow["discharge"]["value"] == pytest.approx(manning, rel=1e-12)
+    assert flow["discharge"]["unit"] == "m³/s" and flow["froude"]["unit"] == ""
+    # Froude number V/√(g·D), D = A/T; shear stress γ·R·S; unit stream power γ·Q·S/T, with
+    # γ = 1000 kg/m³ × 9.80665 m/s² (Chow 1959, ch. 1 and 8; common practice).
+    velocity, gamma = manning / area, 9806.65
+    assert flow["froude"]["value"] == pytest.approx(velocity / math.sqrt(9.80665 * area / top))
+    assert flow["shear_stress"]["value"] == pytest.approx(gamma * area / perimeter * slope)
+    assert flow["stream_power"]["value"] == pytest.approx(gamma * manning * slope / top)
+    spread = out["n_range"]  # Q at the low and high n of Chow's row: Q ∝ 1/n
+    assert spread["discharge_low_n"] == pytest.approx(manning * n / 0.033, rel=1e-12)
+    assert spread["discharge_high_n"] == pytest.approx(manning * n / 0.045, rel=1e-12)
+    assert "n dominates" in spread["sentence"]
+    # Bankfull at the lower bank top (99.0 m, y = 1.5 m).
+    yb = 1.5
+    bankfull = {row["key"]: row["value"] for row in out["bankfull"]["rows"]}
+    assert bankfull["stage"] == pytest.approx(99.0)
+    assert bankfull["width"] == pytest.approx(b + 2 * z * yb)
+    assert bankfull["area"] == pytest.approx((b + z * yb) * yb)
+    assert bankfull["max_depth"] == pytest.approx(yb)
+    assert bankfull["width_depth_ratio"] == pytest.approx(
+        (b + 2 * z * yb) ** 2 / ((b + z * yb) * yb)
+    )
+    assert "change" not in out and "No earlier visit" in out["change_note"]
+    # The later visit: the bed 0.2 m lower between stations 3 and 7, tapering to nothing at the
+    # banks -- scour is two triangles and a rectangle, 0.3 + 0.8 + 0.3 = 1.4 m², no fill.
+    later_inputs = field.office_inputs(later)
+    assert later_inputs["earlier"]["visit"] == first
+    change = field.office_figures(later_inputs, 98.5)["change"]
+    rows = {row["key"]: row["value"] for row in change["rows"]}
+    assert change["date"] == "2026-05-01"
+    assert rows["scour_area"] == pytest.approx(1.4) and rows["fill_area"] == pytest.approx(0.0)
+    assert rows["deepest_change"] == pytest.approx(-0.2) and rows["deepest_shift"] == 0.0
+    # At 98.5 m the later ground is again a trapezoid (Chow 1959, Table 2-1): bed 4 m at 97.3 m,
+    # depth 1.2 m, sides 3 m across for 1.7 m of fall.
+    z_later = 3.0 / 1.7
+    assert rows["area_change"] == pytest.approx((b + z_later * 1.2) * 1.2 - area, rel=1e-12)
+    assert rows["top_width_change"] == pytest.approx(2 * z_later * 1.2 - 2 * z * y, rel=1e-12)
+
+
+def test_office_figures_say_what_is_missing(field):
+    visit = _trapezoid_visit(field, "2026-05-01")
+    inputs = field.office_inputs(visit)
+    out = field.office_figures(inputs, 98.5)
+    assert "flow" not in out and "roughness row" in out["flow_note"]
+    assert "energy slope" in field.office_figures(inputs, 98.5, "clean-winding")["flow_note"]
+    over = field.office_figures(inputs, 99.5)  # above both banks
+    assert "geometry" not in over and "above" in over["error"]
+    assert "licensed engineer" in out["caution"]
+
+
+@pytest.mark.parametrize(
+    "level, slope, message",
+    [("", "", "type the water level"), ("9x", "", "water level"), ("98.5", "0", "energy slope"),
+     ("98.5", "-0.01", "energy slope"), ("98.5", "2", "fraction")],
+)  # fmt: skip
+def test_office_request_refuses_bad_typing(level, slope, message):
+    from app.service import FieldService
+
+    with pytest.raises(ServiceError, match=message):
+        FieldService.office_request(level, slope)
+
+
+def test_roughness_rows_are_chows_table():
+    from app.service import FieldService
+    from core.roughness import ROUGHNESS, SOURCE
+
+    rows = FieldService.roughness_rows()
+    assert [r["key"] for r in rows] == [r.key for r in ROUGHNESS]
+    assert all(r["source"] == SOURCE and "Table 5-6" in SOURCE for r in rows)
+    # Chow (1959), Table 5-6, clean and winding with some pools and shoals: 0.033 / 0.040 / 0.045
+    winding = next(r for r in rows if r["key"] == "clean-winding")
+    assert (winding["minimum"], winding["normal"], winding["maximum"]) == (0.033, 0.040, 0.045)
+    assert len({r["label"] for r in rows}) == len(rows)  # every chip says something different
+
+
+def test_home_overview_names_the_latest_finished_visit(field):
+    rows = {r["section"]: r for r in field.overview()}
+    xs1 = [v for v in field.store.visits() if v["section"] == "XS1 riffle"]
+    assert rows["XS1 riffle"]["finished_visit"] == xs1[-1]["uuid"]
+    section = field.create_section("Orrin Brook", "XS8 bend")
+    field.start_visit(section["uuid"], today="2026-11-30")
+    assert {r["section"]: r for r in field.overview()}["XS8 bend"]["finished_visit"] is None
