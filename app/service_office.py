@@ -88,16 +88,13 @@ class OfficeFigures:
         """What the office figures of a visit need, read from the store (UI thread, quick).
 
         Plain values in the visit's unit: the ground (stations, elevations, codes), the latest
-        recorded water level, the default reading precision, the latest earlier visit of the
-        section in the same unit (``earlier``: date, stations, elevations) or None, and the
-        caution to show beside the figures.
+        recorded water level, the reading and station precision (``None``: the default for the
+        unit), and the latest earlier visit of the section in the same unit (``earlier``: date,
+        stations, elevations) or None.  Reads the store only: the office modules are imported
+        on the worker thread when the figures are first computed.
         """
-        from core.report import CAUTIONS
-        from core.uncertainty import Precision
-
         visit = self.store.visit(visit_uuid)
         rows = [r for r in self.readings(visit_uuid) if r.get("elevation") is not None]
-        precision = Precision.default(visit["unit"])
         return {
             "visit": visit_uuid,
             "unit": visit["unit"],
@@ -109,9 +106,8 @@ class OfficeFigures:
             "elevations": [r["elevation"] for r in rows],
             "codes": [r["code"] or "" for r in rows],
             "recorded_level": self.water_level(visit_uuid),
-            "precision": (precision.reading, precision.station),
+            "precision": None,  # the default for the unit (core.uncertainty.DEFAULT_PRECISION)
             "earlier": self._earlier_ground(visit),
-            "caution": CAUTIONS[0],
         }
 
     def _earlier_ground(self, visit: dict) -> dict | None:
@@ -160,19 +156,19 @@ class OfficeFigures:
         propagation), ``precision``; with a roughness row and a slope ``flow`` (rows),
         ``roughness``, ``splits`` and ``n_range`` (Q at the row's low and high n), else
         ``flow_note``; ``bankfull`` (rows and stage) or ``bankfull_note``; ``change`` (date,
-        rows) or ``change_note``; ``caution``.  ``error`` replaces the figures when the level
+        rows) or ``change_note``.  ``error`` replaces the figures when the level
         cannot be used.  Rows: dicts with ``name``, ``value``, ``plus_minus`` and ``unit``.
         """
         from core.geometry import Section
-        from core.report import CAUTIONS
         from core.uncertainty import Precision, geometry_bands
 
         unit = inputs["unit"]
-        out = {"unit": unit, "level": float(level), "caution": CAUTIONS[0]}
+        out = {"unit": unit, "level": float(level)}
         if len(inputs["stations"]) < 2:
             return {**out, "error": "The visit has fewer than two readings: nothing to show."}
         section = Section(inputs["stations"], inputs["elevations"])
-        precision = Precision(*inputs["precision"])
+        given = inputs.get("precision")
+        precision = Precision(*given) if given else Precision.default(unit)
         out["precision"] = {"reading": precision.reading, "station": precision.station}
         try:
             bands = geometry_bands(section, float(level), precision, method="linear")

@@ -59,7 +59,6 @@ class DetailScreen(KeypadScreen):
     unit = StringProperty("m")
     heading = StringProperty("")
     place = StringProperty("")
-    caution = StringProperty("")
     back = StringProperty("home")
     roughness_key = StringProperty("")
     running = BooleanProperty(False)
@@ -68,6 +67,8 @@ class DetailScreen(KeypadScreen):
     _token = 0
     _again = False
     _inputs: dict = {}
+    _start_level: float | None = None
+    _items: list = []
 
     def prepare(self, back: str | None = None, level: float | None = None, **options) -> None:
         """``back``: the screen the Back button returns to (``"home"`` or ``"section"``);
@@ -83,7 +84,7 @@ class DetailScreen(KeypadScreen):
         self.running = self._again = False
         self._inputs = self.service.office_inputs(self.visit)
         inputs = self._inputs
-        self.unit, self.caution = inputs["unit"], inputs["caution"]
+        self.unit = inputs["unit"]
         self.heading = f"Office figures · {inputs['section']}"
         self.place = f"{inputs['site']} · visit of {inputs['date']}"
         self._build_chips()
@@ -167,11 +168,33 @@ class DetailScreen(KeypadScreen):
 
     # --- showing the figures -------------------------------------------------------------------
     def _show_rows(self, figures: dict) -> None:
-        box = self.ids.results
-        box.clear_widgets()
+        self._items = []
         if "error" in figures:
-            box.add_widget(Caption(text=figures["error"]))
-            return
+            self._note(figures["error"], strong=True)
+        else:
+            self._figure_items(figures)
+        self._place_items()
+
+    def _place_items(self) -> None:
+        """Show the listed items, reusing the widgets when only the numbers changed (typing a
+        level or slope keeps the same rows: no widgets are built on the UI thread then)."""
+        box, items = self.ids.results, self._items
+        shown = list(reversed(box.children))
+        if [kind for kind, *_ in items] != [w.kind for w in shown]:
+            box.clear_widgets()
+            shown = []
+            for kind, _a, soft in items:
+                widget = FigureRow() if kind == "row" else Caption(soft=soft)
+                widget.kind = kind
+                box.add_widget(widget)
+                shown.append(widget)
+        for widget, (kind, text, extra) in zip(shown, items, strict=True):
+            if kind == "row":
+                widget.name, widget.value = text, extra
+            else:
+                widget.text, widget.soft = text, extra
+
+    def _figure_items(self, figures: dict) -> None:
         unit = figures["unit"]
         precision = figures["precision"]
         self._heading(f"At water level {figures['level']:.3f} {unit}")
@@ -228,14 +251,13 @@ class DetailScreen(KeypadScreen):
         self._note(spread["sentence"], strong=True)
 
     def _heading(self, text: str) -> None:
-        self.ids.results.add_widget(Caption(text=f"[b]{text}[/b]"))
+        self._items.append(("caption", f"[b]{text}[/b]", False))
 
     def _note(self, text: str, strong: bool = False) -> None:
-        self.ids.results.add_widget(Caption(text=text, soft=not strong))
+        self._items.append(("caption", text, not strong))
 
     def _rows(self, rows: list[dict]) -> None:
-        for row in rows:
-            self.ids.results.add_widget(FigureRow(name=name_text(row), value=value_text(row)))
+        self._items.extend(("row", name_text(row), value_text(row)) for row in rows)
 
     def go_back(self) -> None:
         """Back to the section screen, or home (leaving the visit) when opened from home."""
