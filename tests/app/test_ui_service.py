@@ -256,3 +256,23 @@ def test_home_overview_names_the_latest_finished_visit(field):
     section = field.create_section("Orrin Brook", "XS8 bend")
     field.start_visit(section["uuid"], today="2026-11-30")
     assert {r["section"]: r for r in field.overview()}["XS8 bend"]["finished_visit"] is None
+
+
+def test_office_figures_in_feet(field):
+    # US customary units: Manning's k = 1.486 (Chow 1959, eq. 5-7), shear stress γRS in lb/ft²
+    # with γ = 62.4 lb/ft³ (common practice); readings ±0.02 ft and stations ±0.03 ft by default.
+    field.save_settings(unit="ft")
+    visit = _trapezoid_visit(field, "2026-05-01")
+    inputs = field.office_inputs(visit)
+    assert inputs["unit"] == "ft"
+    out = field.office_figures(inputs, 98.5, "mountain-gravel", 0.004)
+    b, z, y, n = 4.0, 2.0, 1.0, 0.040
+    area, perimeter = (b + z * y) * y, b + 2 * y * math.sqrt(1 + z * z)
+    flow = {row["key"]: row for row in out["flow"]}
+    manning = 1.486 / n * area * (area / perimeter) ** (2 / 3) * math.sqrt(0.004)
+    assert flow["discharge"]["value"] == pytest.approx(manning, rel=1e-12)
+    assert flow["discharge"]["unit"] == "ft³/s" and flow["velocity"]["unit"] == "ft/s"
+    assert flow["shear_stress"]["value"] == pytest.approx(62.4 * area / perimeter * 0.004)
+    assert flow["shear_stress"]["unit"] == "lb/ft²"
+    assert {row["unit"] for row in out["geometry"]} == {"ft²", "ft"}
+    assert out["precision"] == {"reading": 0.02, "station": 0.03}
