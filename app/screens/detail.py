@@ -200,8 +200,8 @@ class DetailScreen(KeypadScreen):
         self._heading(f"At water level {figures['level']:.3f} {unit}")
         self._rows(figures["geometry"])
         self._note(
-            f"± is twice the standard uncertainty (about 95 %) carried from readings "
-            f"±{precision['reading']:.3f} {unit} and stations ±{precision['station']:.3f} {unit}."
+            f"± about 95 % (2 standard uncertainties) from readings ±{precision['reading']:.3f} "
+            f"{unit}, stations ±{precision['station']:.3f} {unit}."
         )
         self._flow(figures)
         self._heading("Bankfull")
@@ -238,8 +238,8 @@ class DetailScreen(KeypadScreen):
                 f"Divided at the bank tops (stations {stations} {unit}): conveyance summed by "
                 "subsection, the normal n in each."
             )
-        self._rows(figures["flow"])
         spread = figures["n_range"]
+        self._rows(figures["flow"][:1])
         self._rows(
             [
                 {"name": f"Discharge at low n {spread['low_n']:g}", "unit": spread["unit"],
@@ -249,6 +249,7 @@ class DetailScreen(KeypadScreen):
             ]
         )  # fmt: skip
         self._note(spread["sentence"], strong=True)
+        self._rows(figures["flow"][1:])
 
     def _heading(self, text: str) -> None:
         self._items.append(("caption", f"[b]{text}[/b]", False))
