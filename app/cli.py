@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import os
 import sys
 
 from core.errors import SurveyError
@@ -40,6 +41,9 @@ def main(argv: list[str] | None = None) -> int:
     """Run the ``stakeline`` command line; returns the exit code."""
     argv = sys.argv[1:] if argv is None else argv
     if not argv:
+        # SDL's own clipboard: without it Kivy probes for xsel/xclip and logs a CRITICAL line on
+        # machines that lack them.  Must be set before Kivy is first imported.
+        os.environ.setdefault("KIVY_CLIPBOARD", "sdl2")
         from app.main import run_app
 
         return run_app()
