@@ -17,6 +17,7 @@ from matplotlib.figure import Figure
 
 from core.compare import profile_panels
 from core.hydraulics import figure_unit
+from core.rating import RATING_COLUMNS
 from core.report import CAUTIONS, ReportData
 from core.roughness import SOURCE
 
@@ -296,19 +297,7 @@ def _summary_page(data: ReportData) -> Figure:
 
 def _rating_rows(data: ReportData) -> tuple[list[str], list[list[str]]]:
     table = data.rating
-    names = [
-        n
-        for n in (
-            "stage",
-            "area",
-            "wetted_perimeter",
-            "top_width",
-            "hydraulic_radius",
-            "velocity",
-            "discharge",
-        )
-        if n in table
-    ]
+    names = [n for n in RATING_COLUMNS if n in table]
     header = [f"{n.replace('_', ' ')} ({_u(n, data.unit)})" for n in names]
     count = len(table["stage"])
     pick = np.unique(np.linspace(0, count - 1, min(count, RATING_ROWS)).round().astype(int))
