@@ -401,10 +401,13 @@ class FieldService(FieldChecks, OfficeFigures):
                 f"{len(blocking)} blocking finding(s) remain: fix them, or write why the visit "
                 "can be finished anyway"
             )
-        for finding in blocking:
-            self.store.add_override(visit_uuid, finding["kind"], finding["station"], reason.strip())
         self._changed()
-        finished = self.store.finish_visit(visit_uuid)
+        with self.store.transaction():  # the overrides and the finish land together or not at all
+            for finding in blocking:
+                self.store.add_override(
+                    visit_uuid, finding["kind"], finding["station"], reason.strip()
+                )
+            finished = self.store.finish_visit(visit_uuid)
         position = self.store.get_setting(POSITION_KEY) or {}
         if position.get("visit") == visit_uuid:
             self.store.set_setting(POSITION_KEY, None)
