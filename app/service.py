@@ -324,6 +324,12 @@ class FieldService(FieldChecks, OfficeFigures):
             self.add_to_plan(visit_uuid, station)
         return record
 
+    def reading_history(self, visit_uuid: str, station: float) -> list[dict]:
+        """Every version of the reading at ``station``, oldest first (store dicts with
+        ``action`` add|correct|remove and ``undone``); empty when the station has no reading."""
+        current = self.reading_at(visit_uuid, station)
+        return [] if current is None else self.store.station_history(current["uuid"])
+
     def update_reading(self, visit_uuid: str, station: float, **changes) -> dict | None:
         """Change the feature code or note of the reading at ``station`` (kept in history)."""
         existing = self.reading_at(visit_uuid, station)

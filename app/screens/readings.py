@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import os
 
+from kivy.factory import Factory
 from kivy.lang import Builder
 from kivy.properties import (
     BooleanProperty,
@@ -56,6 +57,22 @@ class NotePopup(Popup):
     """A note for the current station (the system keyboard is fine for words)."""
 
     screen = ObjectProperty(None)
+
+
+class HistoryPopup(Popup):
+    """Every value a station has had, oldest first: nothing entered is ever lost."""
+
+    lines = ListProperty([])
+
+    def on_pre_open(self) -> None:
+        """Fill the list with one line per version."""
+        box = self.ids.lines
+        box.clear_widgets()
+        for text in self.lines:
+            box.add_widget(Factory.HistoryLine(text=text))
+
+
+HISTORY_ACTIONS = {"add": "entered", "correct": "corrected", "remove": "removed"}
 
 
 class ReadingsScreen(KeypadScreen):
@@ -140,7 +157,9 @@ class ReadingsScreen(KeypadScreen):
             "reading_text": f"{record['reading']:.{self.decimals}f}",
             "elevation_text": "" if elevation is None else f"{elevation:.{self.decimals}f}",
             "code_text": code,
-            "state_text": "FLAGGED" if flagged else "saved",
+            "state_text": "FLAGGED"
+            if flagged
+            else ("saved, corrected" if record["action"] == "correct" else "saved"),
             "tone": "flagged" if flagged else "saved",
             "current": record["station"] == self.station,
             "screen": self,
@@ -264,6 +283,24 @@ class ReadingsScreen(KeypadScreen):
             self.refresh()
         elif not existing:
             self.say("Note kept: it is saved with the reading.", "unsaved")
+
+    def open_history(self) -> None:
+        """Show every value the current station has had (corrections keep the old ones)."""
+        versions = self.service.reading_history(self.visit, self.station)
+        if not versions:
+            self.say(f"Station {self.station:g} has no reading yet, so no history.", "none")
+            return
+        lines = []
+        for v in versions:
+            when = v["modified"][11:16] if len(v["modified"]) >= 16 else v["modified"]
+            code = CODE_NAMES.get(v["code"], v["code"])
+            what = HISTORY_ACTIONS.get(v["action"], v["action"])
+            text = f"{when}  {what}: {v['reading']:.{self.decimals}f} {self.unit}"
+            text += f" · {code}" if code else ""
+            text += f" · {v['note']}" if v["note"] else ""
+            lines.append(text + ("  (undone)" if v["undone"] else ""))
+        popup = HistoryPopup(title=f"History of station {self.station:g} {self.unit}", lines=lines)
+        popup.open()
 
     def undo(self) -> None:
         """Undo the latest reading change of the visit."""

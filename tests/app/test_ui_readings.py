@@ -153,3 +153,29 @@ def test_level_and_rod_method(ui, visit):
     record = ui.app.service.reading_at(visit, 0.0)
     assert record["elevation"] == pytest.approx(hi - 2.0)  # elevation = HI - foresight
     assert readings.station == 0.5
+
+
+def test_history_shows_every_value_a_station_had(ui, visit):
+    # Corrections never overwrite (issue 4): the screen lists the first value and the correction.
+    screen = ui.screen
+    ui.keypad("0.62")
+    ui.enter()
+    ui.key(UP)  # back to station 0
+    ui.keypad("0.26")
+    ui.enter()
+    ui.key(UP)
+    assert screen.station == 0.0
+    row = next(r for r in screen.rows if r["station"] == 0.0)
+    assert row["state_text"] == "saved, corrected"
+    ui.tap(screen.ids.history)
+    popup = next(w for w in ui.window.children if type(w).__name__ == "HistoryPopup")
+    lines = [w.text for w in reversed(popup.ids.lines.children)]
+    assert len(lines) == 2
+    assert "entered: 0.620 m" in lines[0] and "corrected: 0.260 m" in lines[1]
+    ui.screenshot("readings-history")
+    ui.tap(popup.ids.close)
+    ui.wait(lambda: popup.parent is None)  # the popup closes with a short animation
+    # A station with no reading says so instead of opening an empty list.
+    screen.go_to(2.5)
+    ui.tap(screen.ids.history)
+    assert "no reading yet" in screen.message
