@@ -9,6 +9,7 @@ readings so far are all on this screen; flagged readings are marked as the check
 from __future__ import annotations
 
 import os
+from datetime import datetime
 
 from kivy.factory import Factory
 from kivy.lang import Builder
@@ -292,7 +293,7 @@ class ReadingsScreen(KeypadScreen):
             return
         lines = []
         for v in versions:
-            when = v["modified"][11:16] if len(v["modified"]) >= 16 else v["modified"]
+            when = datetime.fromisoformat(v["modified"]).astimezone().strftime("%H:%M")  # local
             code = CODE_NAMES.get(v["code"], v["code"])
             what = HISTORY_ACTIONS.get(v["action"], v["action"])
             text = f"{when}  {what}: {v['reading']:.{self.decimals}f} {self.unit}"
