@@ -88,10 +88,11 @@ class OfficeFigures:
         """What the office figures of a visit need, read from the store (UI thread, quick).
 
         Plain values in the visit's unit: the ground (stations, elevations, codes), the latest
-        recorded water level, the reading and station precision (``None``: the default for the
-        unit), and the latest earlier visit of the section in the same unit (``earlier``: date,
-        stations, elevations) or None.  Reads the store only: the office modules are imported
-        on the worker thread when the figures are first computed.
+        recorded water level, the crew's ± of one reading and of one station from the device
+        settings (``precision``: [reading, station], converted to the visit's unit), and the
+        latest earlier visit of the section in the same unit (``earlier``: date, stations,
+        elevations) or None.  Reads the store (and core.uncertainty's default ±); the other
+        office modules are imported on the worker thread when the figures are first computed.
         """
         visit = self.store.visit(visit_uuid)
         rows = [r for r in self.readings(visit_uuid) if r.get("elevation") is not None]
@@ -106,7 +107,7 @@ class OfficeFigures:
             "elevations": [r["elevation"] for r in rows],
             "codes": [r["code"] or "" for r in rows],
             "recorded_level": self.water_level(visit_uuid),
-            "precision": None,  # the default for the unit (core.uncertainty.DEFAULT_PRECISION)
+            "precision": list(self.plus_minus(visit["unit"])),
             "earlier": self._earlier_ground(visit),
         }
 

@@ -200,8 +200,9 @@ class DetailScreen(KeypadScreen):
         self._heading(f"At water level {figures['level']:.3f} {unit}")
         self._rows(figures["geometry"])
         self._note(
-            f"± about 95 % (2 standard uncertainties) from readings ±{precision['reading']:.3f} "
-            f"{unit}, stations ±{precision['station']:.3f} {unit}."
+            f"± about 95 % (2 standard uncertainties) from the crew's ± set in Settings: "
+            f"one reading ±{precision['reading']:.3g} {unit}, one station "
+            f"±{precision['station']:.3g} {unit}."
         )
         self._flow(figures)
         self._heading("Bankfull")
