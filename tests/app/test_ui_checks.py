@@ -81,3 +81,42 @@ def test_settings_are_saved(ui):
     section = ui.app.service.create_section("Orrin Brook", "XS1")
     visit = ui.app.service.start_visit(section["uuid"])
     assert ui.app.service.visit(visit)["unit"] == "ft"
+
+
+def chip(screen, text: str):
+    """The settings chip showing exactly ``text``."""
+    return next(c for c in screen.walk() if type(c).__name__ == "Chip" and c.text == text)
+
+
+def test_settings_reading_and_station_plus_minus(ui):
+    from kivy.metrics import dp
+
+    ui.go("settings")
+    screen = ui.screen
+    # Metric chips in millimetres; the defaults of issue 6 (±5 mm readings, ±10 mm stations,
+    # common practice) are marked and chosen until the crew picks another.
+    assert chip(screen, "±5 mm (default)").state == "down"
+    assert chip(screen, "±10 mm (default)").state == "down"
+    reading, station = chip(screen, "±10 mm"), chip(screen, "±20 mm")
+    assert min(reading.height, station.height) >= dp(48)  # touch targets (Material: 48 dp)
+    ui.tap(reading)
+    ui.tap(station)
+    assert screen.tone == "unsaved" and "now ±10 mm" in ui.texts()
+    ui.tap(screen.ids.save)
+    settings = ui.app.service.settings()
+    assert (settings["reading_plus_minus"], settings["station_plus_minus"]) == (0.01, 0.02)
+    assert settings["precision"] == 0.001  # the decimals shown did not move
+    ui.go("home")
+    ui.go("settings")  # shown again from the store
+    assert chip(screen, "±10 mm").state == "down" and chip(screen, "±20 mm").state == "down"
+    # Feet: the feet chips, their defaults (±0.02 ft / ±0.03 ft) chosen again.
+    ui.tap(chip(screen, "Feet (ft)"))
+    assert chip(screen, "±0.02 ft (default)").state == "down"
+    assert chip(screen, "±0.03 ft (default)").state == "down"
+    ui.tap(chip(screen, "±0.01 ft"))
+    ui.tap(screen.ids.save)
+    assert ui.app.service.plus_minus("ft") == (0.01, 0.03)
+    scroll = next(w for w in screen.walk() if type(w).__name__ == "ScrollView")
+    scroll.scroll_y = 0  # the lower rows, to see that nothing below the ± rows is cut off
+    ui.frames(2)
+    ui.screenshot("settings-lower")

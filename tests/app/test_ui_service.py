@@ -276,3 +276,73 @@ def test_office_figures_in_feet(field):
     assert flow["shear_stress"]["unit"] == "lb/ft²"
     assert {row["unit"] for row in out["geometry"]} == {"ft²", "ft"}
     assert out["precision"] == {"reading": 0.02, "station": 0.03}
+
+
+# --- the crew's ± of one reading and of one station (device settings) -------------------------
+FOOT = 0.3048
+"""Metres in one international foot (exact by definition, NIST SP 811 appendix B)."""
+
+
+def test_plus_minus_defaults_round_trip_and_survive_a_restart(field, tmp_path):
+    from app.service import open_service
+
+    # Defaults as issue 6 states them: ±5 mm on readings, ±10 mm on stations (common practice).
+    settings = field.settings()
+    assert (settings["reading_plus_minus"], settings["station_plus_minus"]) == (0.005, 0.010)
+    assert field.plus_minus("ft") == (0.02, 0.03)  # ±0.02 ft / ±0.03 ft (common practice)
+    field.save_settings(reading_plus_minus=0.002, station_plus_minus=0.02)
+    assert field.plus_minus("m") == (0.002, 0.02)
+    field.close()
+    again = open_service(str(tmp_path / "device"))
+    try:
+        settings = again.settings()
+        assert (settings["reading_plus_minus"], settings["station_plus_minus"]) == (0.002, 0.02)
+        assert settings["precision"] == 0.001  # the decimals shown are a separate setting
+        again.save_settings(reading_plus_minus=None)  # back to the unit's default
+        assert again.plus_minus("m") == (0.005, 0.02)
+    finally:
+        again.close()
+
+
+def test_plus_minus_keep_their_length_when_the_unit_changes(field):
+    field.save_settings(reading_plus_minus=0.002)
+    field.save_settings(unit="ft")
+    reading, station = field.plus_minus("ft")
+    assert reading == pytest.approx(0.002 / FOOT, abs=1e-6)  # a set ± is converted...
+    assert station == 0.03  # ...one left at its default takes the new unit's default
+    field.save_settings(unit="m", reading_plus_minus=0.01, station_plus_minus=0.005)
+    assert field.plus_minus("m") == (0.01, 0.005)  # given with the unit: stored as given
+    # A visit surveyed in feet reads the device's metric ± in feet.
+    field.save_settings(unit="ft")
+    ft_visit = _trapezoid_visit(field, "2026-05-01")
+    field.save_settings(unit="m", reading_plus_minus=0.01, station_plus_minus=0.005)
+    inputs = field.office_inputs(ft_visit)
+    assert inputs["unit"] == "ft"
+    assert inputs["precision"] == pytest.approx([0.01 / FOOT, 0.005 / FOOT])
+
+
+@pytest.mark.parametrize("value", [0, -0.005, "abc", float("nan"), float("inf")])
+def test_bad_plus_minus_is_refused_and_nothing_is_stored(field, value):
+    before = field.settings()
+    with pytest.raises(ServiceError, match="reading ±"):
+        field.save_settings(unit="ft", reading_plus_minus=value)
+    assert field.settings() == before  # the unit given in the same call is not stored either
+
+
+def test_office_bands_follow_the_settings(field):
+    from core.geometry import Section
+    from core.uncertainty import Precision, geometry_bands
+
+    visit = _trapezoid_visit(field, "2026-05-01")
+    widths = []
+    for reading in (0.002, 0.01):
+        field.save_settings(reading_plus_minus=reading, station_plus_minus=0.01)
+        inputs = field.office_inputs(visit)
+        out = field.office_figures(inputs, 98.5)
+        assert out["precision"] == {"reading": reading, "station": 0.01}
+        area = {row["key"]: row for row in out["geometry"]}["area"]
+        section = Section(inputs["stations"], inputs["elevations"])
+        band = geometry_bands(section, 98.5, Precision(reading, 0.01), method="linear")["area"]
+        assert area["plus_minus"] == pytest.approx(band.plus_minus, rel=1e-12)
+        widths.append(area["plus_minus"])
+    assert widths[1] > widths[0]
