@@ -173,3 +173,56 @@ def test_home_offers_figures_only_for_finished_visits(ui):
     assert rows["XS7 run"].figures_visit == ""
     assert rows["XS7 run"].ids.figures.disabled
     assert rows["XS1 riffle"].figures_visit and not rows["XS1 riffle"].ids.figures.disabled
+
+
+def set_plus_minus(ui, reading: str, station: str) -> None:
+    """Choose the reading and station ± on the settings screen by their chip texts, and save."""
+    ui.go("settings")
+    screen = ui.screen
+    chips = {c.text: c for c in screen.walk() if type(c).__name__ == "Chip"}
+    ui.tap(chips[reading])
+    ui.tap(chips[station])
+    ui.tap(screen.ids.save)
+    assert screen.tone == "saved", screen.message
+
+
+def test_crew_plus_minus_from_settings_sets_the_bands(ui, xs1):
+    from core.uncertainty import Precision, geometry_bands
+
+    later, _ = xs1
+    service = ui.app.service
+    stations, elevations, _ = ground(service, later["uuid"])
+    areas = {}
+    for reading, chip in ((0.002, "±2 mm"), (0.01, "±10 mm")):
+        set_plus_minus(ui, chip, "±10 mm (default)")
+        screen = open_from_home(ui)
+        level = float(screen.ids.level_field.text)
+        figures, shown = screen.figures, ui.texts()
+        assert figures["precision"] == {"reading": reading, "station": 0.01}
+        assert f"one reading ±{reading:g} m, one station ±0.01 m" in shown
+        band = {row["key"]: row for row in figures["geometry"]}["area"]["plus_minus"]
+        expected = geometry_bands(
+            Section(stations, elevations), level, Precision(reading, 0.01), method="linear"
+        )["area"]
+        assert band == pytest.approx(expected.plus_minus, rel=1e-12)
+        areas[reading] = band
+    assert areas[0.01] > areas[0.002]
+    # First-order propagation (JCGM 100:2008, eq. 10) with k = 2: U² = 4·(Σ(∂A/∂z_i)²·u_z²
+    # + station terms), so the two bands differ by 4·Σ(∂A/∂z_i)²·(0.01² - 0.002²) alone.  The
+    # sensitivities here come from shapely's clipped area, by central differences.
+    h, slopes = 1e-5, []
+    for i in range(len(elevations)):
+        up, down = list(elevations), list(elevations)
+        up[i] += h
+        down[i] -= h
+        slopes.append(
+            (
+                clipped_area_and_perimeter(stations, up, level)[0]
+                - clipped_area_and_perimeter(stations, down, level)[0]
+            )
+            / (2 * h)
+        )
+    reading_terms = sum(s * s for s in slopes)
+    assert areas[0.01] ** 2 - areas[0.002] ** 2 == pytest.approx(
+        4 * reading_terms * (0.01**2 - 0.002**2), rel=1e-4
+    )
