@@ -25,11 +25,15 @@ class FieldChecks:
     def check_settings(self, unit: str):
         """The field-check tolerances for a survey in ``unit`` with this device's settings."""
         from core.checks import CheckSettings
+        from core.reduction import convert_length
 
         settings = self.settings()
         overrides = {"min_wet_stations": int(settings["min_wetted_stations"])}
         if settings["line_tolerance"] is not None:
-            overrides["line_tolerance"] = float(settings["line_tolerance"])
+            # stored in the device's unit; a visit may be surveyed in the other one
+            overrides["line_tolerance"] = convert_length(
+                float(settings["line_tolerance"]), settings["unit"], unit
+            )
         return CheckSettings.for_unit(unit, **overrides)
 
     def review_inputs(self, visit_uuid: str) -> dict:

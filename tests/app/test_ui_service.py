@@ -346,3 +346,11 @@ def test_office_bands_follow_the_settings(field):
         assert area["plus_minus"] == pytest.approx(band.plus_minus, rel=1e-12)
         widths.append(area["plus_minus"])
     assert widths[1] > widths[0]
+
+
+def test_line_tolerance_follows_the_visit_unit(field):
+    # The device keeps its settings in its own unit; a survey in feet gets the same length.
+    # International foot: 0.3048 m exactly.
+    field.save_settings(unit="m", line_tolerance=0.006)
+    assert field.check_settings("m").line_tolerance == pytest.approx(0.006)
+    assert field.check_settings("ft").line_tolerance == pytest.approx(0.006 / 0.3048)
