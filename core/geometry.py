@@ -94,6 +94,27 @@ def point_array(values: Sequence[float], name: str, finite: bool = True) -> np.n
     return arr
 
 
+def water_strip(x: np.ndarray, z: np.ndarray, level: float) -> tuple[np.ndarray, np.ndarray]:
+    """Points of the water's bottom edge at ``level``: stations with the water's edges inserted.
+
+    Returns ``(stations, bottoms)`` where ``bottoms = min(ground, level)``; a triangle strip between
+    ``(stations, level)`` and ``(stations, bottoms)`` fills exactly the wetted area (dry stretches
+    have zero height).  Lengths in the survey unit.
+
+    >>> s, b = water_strip(np.array([0.0, 2.0, 4.0]), np.array([2.0, 0.0, 2.0]), 1.0)
+    >>> s.tolist(), b.tolist()
+    ([0.0, 1.0, 2.0, 3.0, 4.0], [1.0, 1.0, 0.0, 1.0, 1.0])
+    """
+    depth = z - level
+    crossing = np.flatnonzero(depth[:-1] * depth[1:] < 0)
+    if crossing.size:
+        i = crossing
+        edge = x[i] + (x[i + 1] - x[i]) * depth[i] / (depth[i] - depth[i + 1])
+        x = np.insert(x, i + 1, edge)
+        z = np.insert(z, i + 1, level)
+    return x, np.minimum(z, level)
+
+
 class Section:
     """A surveyed cross-section: stations (distance across) and ground elevations, one length unit.
 

@@ -21,30 +21,10 @@ from kivy.properties import BooleanProperty, NumericProperty, ObjectProperty
 from kivy.uix.stencilview import StencilView
 
 from app import theme as T
+from core.geometry import water_strip
 
 _MARGIN_LEFT, _MARGIN_BOTTOM, _MARGIN_RIGHT, _MARGIN_TOP = 78, 40, 40, 16  # dp
 _GRAB_DISTANCE = 32  # dp: how near the water line a drag must start to move it
-
-
-def water_strip(x: np.ndarray, z: np.ndarray, level: float) -> tuple[np.ndarray, np.ndarray]:
-    """Points of the water's bottom edge at ``level``: stations with the water's edges inserted.
-
-    Returns ``(stations, bottoms)`` where ``bottoms = min(ground, level)``; a triangle strip between
-    ``(stations, level)`` and ``(stations, bottoms)`` fills exactly the wetted area (dry stretches
-    have zero height).  Lengths in the survey unit.
-
-    >>> s, b = water_strip(np.array([0.0, 2.0, 4.0]), np.array([2.0, 0.0, 2.0]), 1.0)
-    >>> s.tolist(), b.tolist()
-    ([0.0, 1.0, 2.0, 3.0, 4.0], [1.0, 1.0, 0.0, 1.0, 1.0])
-    """
-    depth = z - level
-    crossing = np.flatnonzero(depth[:-1] * depth[1:] < 0)
-    if crossing.size:
-        i = crossing
-        edge = x[i] + (x[i + 1] - x[i]) * depth[i] / (depth[i] - depth[i + 1])
-        x = np.insert(x, i + 1, edge)
-        z = np.insert(z, i + 1, level)
-    return x, np.minimum(z, level)
 
 
 class SectionView(StencilView):
