@@ -25,12 +25,13 @@ from __future__ import annotations
 import argparse
 import collections
 import sys
-import time
 from pathlib import Path
 
 import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+
+from timing import best  # noqa: E402  (bench/timing.py)
 
 from core.checks import review  # noqa: E402
 from core.geometry import Section  # noqa: E402
@@ -107,17 +108,6 @@ def false_alarms(count: int, seed: int) -> float:
     return rate
 
 
-def best(fn, repeat: int = 7, number: int = 50) -> float:
-    """Best mean wall time of ``number`` calls over ``repeat`` runs (seconds per call)."""
-    times = []
-    for _ in range(repeat):
-        start = time.perf_counter()
-        for _ in range(number):
-            fn()
-        times.append((time.perf_counter() - start) / number)
-    return min(times)
-
-
 def speed(seed: int) -> float:
     """Print the time of one review of a 200-station section; return it in milliseconds."""
     rng = np.random.default_rng(seed)
@@ -137,7 +127,7 @@ def speed(seed: int) -> float:
     def run_geometry():
         Section(x, z).at(section.stage)
 
-    checks, geometry = best(run_review), best(run_geometry)
+    checks, geometry = best(run_review, 7, 50), best(run_geometry, 7, 50)
     print(
         f"review of {x.size} stations: {checks * 1e3:.2f} ms "
         f"({checks / geometry:.1f}x building Section + at() on the same points, "

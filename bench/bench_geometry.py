@@ -13,13 +13,14 @@ Goals are checked and reported; the exit code is 1 if any is missed.
 from __future__ import annotations
 
 import sys
-import time
 from pathlib import Path
 
 import numpy as np
 from shapely.geometry import LineString, Polygon, box
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+
+from timing import best  # noqa: E402  (bench/timing.py)
 
 from core.geometry import Section  # noqa: E402
 
@@ -32,17 +33,6 @@ def natural_section(n: int, seed: int = 7) -> tuple[np.ndarray, np.ndarray]:
     z = 100 + 0.08 * (x - 20) ** 2 / 4 + 0.05 * rng.standard_normal(n)
     z[0] = z[-1] = z.max() + 0.5
     return x, z
-
-
-def best(fn, repeat: int = 5, number: int = 1) -> float:
-    """Best wall time of ``number`` calls, over ``repeat`` runs, per call (seconds)."""
-    times = []
-    for _ in range(repeat):
-        start = time.perf_counter()
-        for _ in range(number):
-            fn()
-        times.append((time.perf_counter() - start) / number)
-    return min(times)
 
 
 def clip_figures(x, z, stage):

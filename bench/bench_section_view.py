@@ -15,7 +15,8 @@ from __future__ import annotations
 import os
 import sys
 import tempfile
-import time
+
+from timing import best  # bench/timing.py
 
 STATIONS = 500
 GOAL_MS = 2.0
@@ -38,13 +39,7 @@ def _headless() -> None:
 
 def _timed(function, repeats: int = 7, number: int = 200) -> float:
     """Best-of-``repeats`` mean time of one call, in milliseconds."""
-    best = float("inf")
-    for _ in range(repeats):
-        start = time.perf_counter()
-        for _ in range(number):
-            function()
-        best = min(best, (time.perf_counter() - start) / number)
-    return best * 1e3
+    return best(function, repeats, number) * 1e3
 
 
 def main() -> int:
