@@ -55,7 +55,7 @@ def line_elevation(
     With equal stake heights this is simply that height.  Stations outside the stakes are
     extrapolated along the same straight line.
 
-    >>> float(line_elevation(5.0, 0.0, 100.0, 10.0, 100.02))
+    >>> round(line_elevation(5.0, 0.0, 100.0, 10.0, 100.02), 6)
     100.01
     """
     x = np.asarray(stations, dtype=float)
