@@ -1,0 +1,1 @@
+"""The touch app (``stakeline.app.main``), its service layer and the command line."""

@@ -1,5 +1,5 @@
-"""``python -m app``: the same as the ``stakeline`` command."""
+"""``python -m stakeline.app``: the same as the ``stakeline`` command."""
 
-from app.cli import main
+from stakeline.app.cli import main
 
 raise SystemExit(main())

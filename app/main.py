@@ -15,8 +15,7 @@ from kivy.app import App
 from kivy.core.window import Window
 from kivy.properties import ObjectProperty, StringProperty
 from kivy.uix.screenmanager import NoTransition, ScreenManager, SlideTransition
-
-from app import theme
+from stakeline.app import theme
 
 SCREENS = ("home", "settings", "stakes", "spacing", "readings", "section", "checks", "detail")
 """Screen names; each is ``app/screens/<name>.py`` with a ``<Name>Screen`` class and a .kv."""
@@ -50,7 +49,7 @@ class StakelineApp(App):
 
     def build(self):
         """Open the store, build the screen manager and show home (or resume an open visit)."""
-        from app.service import open_service
+        from stakeline.app.service import open_service
 
         Window.clearcolor = theme.PAPER
         self.service = open_service(self.data_dir or data_folder(self))
@@ -68,7 +67,7 @@ class StakelineApp(App):
     def screen(self, name: str):
         """The screen called ``name``, built on first use."""
         if not self.manager.has_screen(name):
-            module = importlib.import_module(f"app.screens.{name}")
+            module = importlib.import_module(f"stakeline.app.screens.{name}")
             screen_class = getattr(module, f"{name.capitalize()}Screen")
             self.manager.add_widget(screen_class(name=name))
         return self.manager.get_screen(name)

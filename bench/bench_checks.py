@@ -2,7 +2,7 @@
 
     .venv/bin/python bench/bench_checks.py [--sections N] [--seed S]
 
-1. **Misses**: N generated sections (core.synthetic: sloped, steep, vertical, undercut and benched
+1. **Misses**: N generated sections (synthetic: sloped, steep, vertical, undercut and benched
    banks, bars, pools, gravel roughness; surveyed by good practice), each with one station's
    elevation off by 10-50 % of the channel's maximum depth (lower bank top minus the deepest
    point), up or down, at a station drawn uniformly (ends, toes, bank tops and water's edges
@@ -12,7 +12,7 @@
 2. **False alarms**: N clean sections (a different draw); a false alarm is a section with any
    ``block`` or ``warn`` finding.  Goal: at most 1 %.
 3. **Speed**: one review of a 200-station section (stage, codes, readings, line heights), as a
-   ratio to building ``core.geometry.Section`` and its ``at()`` on the same points in the same run;
+   ratio to building ``stakeline.survey.geometry.Section`` and its ``at()`` on the same points in the same run;
    goal: well under 5 ms on its own.
 
 A quarter of the sections are generated in feet (tolerances then default to the foot values).
@@ -29,13 +29,12 @@ from pathlib import Path
 
 import numpy as np
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))  # synthetic sections
 
+from stakeline.checks import review  # noqa: E402
+from stakeline.survey.geometry import Section  # noqa: E402
+from synthetic import in_unit, natural_section, random_point_error  # noqa: E402
 from timing import best  # noqa: E402  (bench/timing.py)
-
-from core.checks import review  # noqa: E402
-from core.geometry import Section  # noqa: E402
-from core.synthetic import in_unit, natural_section, random_point_error  # noqa: E402
 
 
 def findings(section):

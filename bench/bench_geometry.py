@@ -20,9 +20,8 @@ from shapely.geometry import LineString, Polygon, box
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
+from stakeline.survey.geometry import Section  # noqa: E402
 from timing import best  # noqa: E402  (bench/timing.py)
-
-from core.geometry import Section  # noqa: E402
 
 
 def natural_section(n: int, seed: int = 7) -> tuple[np.ndarray, np.ndarray]:

@@ -49,10 +49,9 @@ def main() -> int:
     import numpy as np
     from kivy.core.window import Window
     from kivy.graphics import Color, Line
-
-    from app.service import FieldService
-    from app.widgets.section_view import SectionView
-    from core.geometry import Section
+    from stakeline.app.service import FieldService
+    from stakeline.app.widgets.section_view import SectionView
+    from stakeline.survey.geometry import Section
 
     Window.size = (1280, 800)
     rng = np.random.default_rng(7)

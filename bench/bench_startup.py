@@ -52,7 +52,7 @@ Bare().run()
 STAKELINE = (
     _FIRST_FRAME
     + """
-from app.main import StakelineApp
+from stakeline.app.main import StakelineApp
 StakelineApp(data_dir=sys.argv[1]).run()
 """
 )

@@ -26,8 +26,8 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from core.package import import_files, pack_visits  # noqa: E402
-from core.store import Store  # noqa: E402
+from stakeline.store import Store  # noqa: E402
+from stakeline.store.package import import_files, pack_visits  # noqa: E402
 
 WRITES = 1500
 BLOCK = 50

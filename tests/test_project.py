@@ -40,7 +40,7 @@ def test_layout_and_metadata():
         assert (ROOT / name).is_dir(), name
     meta = tomllib.loads((ROOT / "pyproject.toml").read_text())["project"]
     assert meta["name"] == "stakeline"
-    assert meta["scripts"]["stakeline"] == "app.cli:main"
+    assert meta["scripts"]["stakeline"] == "stakeline.app.cli:main"
     assert meta["requires-python"] == ">=3.11"
     deps = " ".join(meta["dependencies"])
     for dep in ("kivy", "numpy", "shapely", "sqlite-utils"):

@@ -9,10 +9,9 @@ from __future__ import annotations
 from kivy.app import App
 from kivy.properties import StringProperty
 from kivy.uix.screenmanager import Screen
-
-from app.service import ServiceError
-from app.widgets.keypad import key_action
-from core.errors import SurveyError
+from stakeline.app.service import ServiceError
+from stakeline.app.widgets.keypad import key_action
+from stakeline.errors import SurveyError
 
 
 class BaseScreen(Screen):
@@ -23,12 +22,12 @@ class BaseScreen(Screen):
 
     @property
     def app(self):
-        """The running :class:`app.main.StakelineApp`."""
+        """The running :class:`stakeline.app.main.StakelineApp`."""
         return App.get_running_app()
 
     @property
     def service(self):
-        """The app's :class:`app.service.FieldService`."""
+        """The app's :class:`stakeline.app.service.FieldService`."""
         return self.app.service
 
     @property
@@ -96,8 +95,8 @@ class KeypadScreen(BaseScreen):
 
 
 def field_number(field) -> float | None:
-    """The number typed in a :class:`app.widgets.common.NumberField` (``None`` when empty)."""
-    from app.service import parse_number
+    """The number typed in a :class:`stakeline.app.widgets.common.NumberField` (``None`` when empty)."""
+    from stakeline.app.service import parse_number
 
     text = field.text.strip()
     return None if not text else parse_number(text, field.caption)

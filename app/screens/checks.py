@@ -10,8 +10,7 @@ from kivy.lang import Builder
 from kivy.properties import BooleanProperty, ListProperty, NumericProperty, StringProperty
 from kivy.uix.behaviors import ButtonBehavior
 from kivy.uix.boxlayout import BoxLayout
-
-from app.screens.base import BaseScreen
+from stakeline.app.screens.base import BaseScreen
 
 Builder.load_file(os.path.join(os.path.dirname(__file__), "checks.kv"))
 

@@ -2,7 +2,7 @@
 the figures built on it for a chosen roughness row and energy slope, the bankfull summary and the
 change since the section's earlier visit -- with the caution that they are estimates.
 
-Every figure comes from the service (:class:`app.service_office.OfficeFigures`), computed on the
+Every figure comes from the service (:class:`stakeline.app.service.office.OfficeFigures`), computed on the
 worker thread; this screen only shows them.
 """
 
@@ -13,11 +13,10 @@ import os
 from kivy.lang import Builder
 from kivy.properties import BooleanProperty, DictProperty, StringProperty
 from kivy.uix.boxlayout import BoxLayout
-
-from app.screens.base import KeypadScreen
-from app.service import ServiceError
-from app.widgets.common import Caption, Chip
-from core.errors import SurveyError
+from stakeline.app.screens.base import KeypadScreen
+from stakeline.app.service import ServiceError
+from stakeline.app.widgets.common import Caption, Chip
+from stakeline.errors import SurveyError
 
 
 class FigureRow(BoxLayout):
@@ -28,7 +27,7 @@ class FigureRow(BoxLayout):
 
 
 class RoughnessChip(Chip):
-    """A row of the roughness table; ``key`` names it (see :data:`core.roughness.ROUGHNESS`)."""
+    """A row of the roughness table; ``key`` names it (see :data:`stakeline.survey.roughness.ROUGHNESS`)."""
 
     key = StringProperty("")
 

@@ -8,8 +8,7 @@ import os
 from kivy.lang import Builder
 from kivy.properties import StringProperty
 from kivy.uix.boxlayout import BoxLayout
-
-from app.screens.base import BaseScreen
+from stakeline.app.screens.base import BaseScreen
 
 
 class SectionRow(BoxLayout):

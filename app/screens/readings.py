@@ -24,11 +24,10 @@ from kivy.properties import (
 from kivy.uix.behaviors import ButtonBehavior
 from kivy.uix.boxlayout import BoxLayout
 from kivy.uix.popup import Popup
-
-from app import theme
-from app.screens.base import KeypadScreen
-from app.service import FEATURE_CODES
-from app.widgets import section_view  # noqa: F401  (registers SectionView for the .kv)
+from stakeline.app import theme
+from stakeline.app.screens.base import KeypadScreen
+from stakeline.app.service import FEATURE_CODES
+from stakeline.app.widgets import section_view  # noqa: F401  (registers SectionView for the .kv)
 
 Builder.load_file(os.path.join(os.path.dirname(__file__), "readings.kv"))
 
@@ -213,7 +212,7 @@ class ReadingsScreen(KeypadScreen):
         if key in (273, 274):  # arrow up / down
             self.step(-1 if key == 273 else 1)
             return True
-        from app.widgets.keypad import key_action
+        from stakeline.app.widgets.keypad import key_action
 
         action = key_action(key, codepoint)
         if action is None:

@@ -7,11 +7,10 @@ import os
 
 from kivy.lang import Builder
 from kivy.properties import DictProperty, ObjectProperty, StringProperty
-
-from app import theme
-from app.screens.base import KeypadScreen
-from app.service import FIGURE_NAMES, parse_number
-from app.widgets import section_view  # noqa: F401  (registers SectionView for the .kv)
+from stakeline.app import theme
+from stakeline.app.screens.base import KeypadScreen
+from stakeline.app.service import FIGURE_NAMES, parse_number
+from stakeline.app.widgets import section_view  # noqa: F401  (registers SectionView for the .kv)
 
 Builder.load_file(os.path.join(os.path.dirname(__file__), "section.kv"))
 

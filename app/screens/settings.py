@@ -8,8 +8,7 @@ import os
 
 from kivy.lang import Builder
 from kivy.properties import ObjectProperty, StringProperty
-
-from app.screens.base import BaseScreen
+from stakeline.app.screens.base import BaseScreen
 
 Builder.load_file(os.path.join(os.path.dirname(__file__), "settings.kv"))
 
@@ -21,7 +20,7 @@ PLUS_MINUS_CHOICES = {
     "ft": {"reading": (0.01, 0.02, 0.03), "station": (0.02, 0.03, 0.05)},
 }
 """Chips for the ± of one plumb or rod reading and of one tape station (survey unit); each row
-holds the unit's default (core.uncertainty.Precision.default)."""
+holds the unit's default (stakeline.survey.uncertainty.Precision.default)."""
 
 
 def plus_minus_words(value: float, unit: str) -> str:

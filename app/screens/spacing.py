@@ -7,10 +7,9 @@ import os
 
 from kivy.lang import Builder
 from kivy.properties import ListProperty, NumericProperty, StringProperty
-
-from app.screens.base import KeypadScreen, field_number, show_number
-from app.service import ServiceError, uniform_stations
-from app.widgets.common import Chip
+from stakeline.app.screens.base import KeypadScreen, field_number, show_number
+from stakeline.app.service import ServiceError, uniform_stations
+from stakeline.app.widgets.common import Chip
 
 Builder.load_file(os.path.join(os.path.dirname(__file__), "spacing.kv"))
 

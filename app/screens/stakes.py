@@ -7,10 +7,9 @@ import os
 
 from kivy.lang import Builder
 from kivy.properties import StringProperty
-
-from app.screens.base import KeypadScreen, field_number, show_number
-from app.service import ServiceError
-from core.reduction import ASSUMED_DATUM
+from stakeline.app.screens.base import KeypadScreen, field_number, show_number
+from stakeline.app.service import ServiceError
+from stakeline.survey.reduction import ASSUMED_DATUM
 
 Builder.load_file(os.path.join(os.path.dirname(__file__), "stakes.kv"))
 

@@ -1,6 +1,6 @@
 """Small building blocks shared by the screens: big buttons, chips, captions and number fields.
 
-Their looks live in ``common.kv`` beside this file; sizes and colours come from :mod:`app.theme`.
+Their looks live in ``common.kv`` beside this file; sizes and colours come from :mod:`stakeline.app.theme`.
 """
 
 from __future__ import annotations

@@ -12,8 +12,7 @@ import os
 from kivy.lang import Builder
 from kivy.properties import BooleanProperty, NumericProperty, StringProperty
 from kivy.uix.boxlayout import BoxLayout
-
-from app.widgets import common  # noqa: F401  (registers BigButton, used by keypad.kv)
+from stakeline.app.widgets import common  # noqa: F401  (registers BigButton, used by keypad.kv)
 
 Builder.load_file(os.path.join(os.path.dirname(__file__), "keypad.kv"))
 

@@ -19,9 +19,8 @@ from kivy.graphics import Color, InstructionGroup, Line, Mesh, Point, Rectangle
 from kivy.metrics import dp, sp
 from kivy.properties import BooleanProperty, NumericProperty, ObjectProperty
 from kivy.uix.stencilview import StencilView
-
-from app import theme as T
-from core.geometry import water_strip
+from stakeline.app import theme as T
+from stakeline.survey.geometry import water_strip
 
 _MARGIN_LEFT, _MARGIN_BOTTOM, _MARGIN_RIGHT, _MARGIN_TOP = 78, 40, 40, 16  # dp
 _GRAB_DISTANCE = 32  # dp: how near the water line a drag must start to move it

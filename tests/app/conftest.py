@@ -186,8 +186,7 @@ def data_dir(tmp_path):
 def ui(window, data_dir):
     """The Stakeline app running on a fresh store (with the demo survey), driven by a Driver."""
     from kivy.base import runTouchApp
-
-    from app.main import StakelineApp
+    from stakeline.app.main import StakelineApp
 
     window.size = LANDSCAPE
     app = StakelineApp(data_dir=data_dir, animate=False)

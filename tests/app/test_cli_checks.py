@@ -9,9 +9,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
-from app.cli import main
-from core.synthetic import natural_section, with_point_error
+from stakeline.app.cli import main
+from synthetic import natural_section, with_point_error
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_data"
 KEYS = {"kind", "severity", "station", "message", "suggestion"}

@@ -9,8 +9,7 @@ import subprocess
 import sys
 
 import pytest
-
-from core.geometry import FIGURES, Section
+from stakeline.survey.geometry import FIGURES, Section
 
 
 def stakeline(*args):
@@ -78,7 +77,7 @@ def test_table_rejects_a_bad_step(trapezoid_csv):
 
 
 def test_every_command_has_help_text():
-    from app.cli import build_parser
+    from stakeline.app.cli import build_parser
 
     parser = build_parser()
     actions = [a for a in parser._actions if a.dest == "command"]

@@ -8,10 +8,9 @@ import subprocess
 import sys
 
 import pytest
-
-from app.cli import build_parser, main
-from core.section_csv import read_section_csv
-from core.store import Store
+from stakeline.app.cli import build_parser, main
+from stakeline.files.section_csv import read_section_csv
+from stakeline.store import Store
 
 FLOW_KEYS = ["area", "wetted_perimeter", "hydraulic_radius", "discharge", "velocity", "froude",
              "shear_stress", "stream_power"]  # fmt: skip

@@ -10,10 +10,9 @@ import sys
 from pathlib import Path
 
 import pytest
-
-from app import cli_store
-from app.cli import build_parser, main
-from core.store import Store
+from stakeline.app.cli import build_parser, main
+from stakeline.app.cli import store as cli_store
+from stakeline.store import Store
 
 ROOT = Path(__file__).resolve().parents[2]
 

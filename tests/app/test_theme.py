@@ -3,13 +3,12 @@
 from __future__ import annotations
 
 import pytest
-
-from app import theme
+from stakeline.app import theme
 
 
 def wcag_luminance(rgb) -> float:
     """Relative luminance as defined in WCAG 2.x (W3C, "relative luminance"), recomputed here
-    independently of app.theme."""
+    independently of stakeline.app.theme."""
 
     def channel(c: float) -> float:
         return c / 12.92 if c <= 0.04045 else ((c + 0.055) / 1.055) ** 2.4

@@ -1,7 +1,7 @@
 """The section-detail (office figures) screen, driven by taps on a real store with the demo survey:
 opened from home and from the section screen, a roughness row picked and a slope typed on the
 keypad; the discharge shown is Manning's (checked against shapely's clipping and against
-core.hydraulics.flow_at), every wetted figure carries its ± band, and the change since the earlier
+stakeline.survey.hydraulics.flow_at), every wetted figure carries its ± band, and the change since the earlier
 visit of XS1 is shown."""
 
 from __future__ import annotations
@@ -10,11 +10,10 @@ import math
 
 import pytest
 from shapely.geometry import LineString, Polygon, box
-
-from core.compare import compare_visits
-from core.geometry import Section
-from core.hydraulics import bank_top_splits, flow_at
-from core.roughness import SOURCE, roughness
+from stakeline.survey.compare import compare_visits
+from stakeline.survey.geometry import Section
+from stakeline.survey.hydraulics import bank_top_splits, flow_at
+from stakeline.survey.roughness import SOURCE, roughness
 
 ROW = "clean-winding"
 SLOPE = "0.0025"
@@ -82,7 +81,7 @@ def test_figures_from_home_with_bands_and_change(ui, xs1):
         assert row["plus_minus"] > 0
         assert f"{row['value']:.3f} ± {row['plus_minus']:.3f} {row['unit']}" in shown
     assert f"{area:.3f} ± " in shown and " m²" in shown
-    # Change since the earlier visit: core.compare on the two ground lines from the store.
+    # Change since the earlier visit: stakeline.survey.compare on the two ground lines from the store.
     before = Section(*ground(service, earlier["uuid"])[:2])
     change = compare_visits(before, Section(stations, elevations), level)
     assert f"Change since the visit of {earlier['date']}" in shown
@@ -187,7 +186,7 @@ def set_plus_minus(ui, reading: str, station: str) -> None:
 
 
 def test_crew_plus_minus_from_settings_sets_the_bands(ui, xs1):
-    from core.uncertainty import Precision, geometry_bands
+    from stakeline.survey.uncertainty import Precision, geometry_bands
 
     later, _ = xs1
     service = ui.app.service

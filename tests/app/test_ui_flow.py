@@ -10,8 +10,7 @@ import os
 import numpy as np
 import pytest
 from shapely.geometry import Polygon, box
-
-from app.service import uniform_stations
+from stakeline.app.service import uniform_stations
 
 LINE = 100.0
 SPIKE_INDEX = 6

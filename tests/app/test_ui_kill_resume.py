@@ -22,7 +22,7 @@ for option in Config.options("input"):
 from kivy.base import EventLoop, runTouchApp
 from kivy.clock import Clock
 from kivy.tests.common import UnitTestTouch
-from app.main import StakelineApp
+from stakeline.app.main import StakelineApp
 
 def frames(n=1):
     for _ in range(n):

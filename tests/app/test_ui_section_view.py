@@ -6,9 +6,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from shapely.geometry import Polygon, box
-
-from app.widgets.section_view import SectionView
-from core.geometry import water_strip
+from stakeline.app.widgets.section_view import SectionView
+from stakeline.survey.geometry import water_strip
 
 X = np.array([0.0, 1.0, 2.0, 3.0, 4.0, 5.0, 6.0])
 Z = np.array([10.0, 9.0, 8.2, 9.4, 8.0, 9.1, 10.0])  # a bar at 3.0 splits low water in two

@@ -9,9 +9,8 @@ import math
 
 import numpy as np
 import pytest
-
-from app import service_util
-from app.service_util import ServiceError, next_station, parse_number, uniform_stations
+from stakeline.app.service import util as service_util
+from stakeline.app.service.util import ServiceError, next_station, parse_number, uniform_stations
 
 
 @pytest.mark.parametrize(
@@ -56,7 +55,7 @@ def test_next_station_skips_what_is_read():
     assert next_station(plan, set(plan), 2.0) is None
 
 
-@pytest.mark.parametrize("module", ["app.service_util", "app.widgets.keypad"])
+@pytest.mark.parametrize("module", ["stakeline.app.service.util", "stakeline.app.widgets.keypad"])
 def test_docstring_examples(module):
     import importlib
 
@@ -72,7 +71,7 @@ def test_service_util_has_no_kivy_at_import():
 @pytest.fixture
 def field(tmp_path):
     """A FieldService on a fresh store file with the demo survey loaded."""
-    from app.service import open_service
+    from stakeline.app.service import open_service
 
     service = open_service(str(tmp_path / "device"))
     yield service
@@ -228,15 +227,15 @@ def test_office_figures_say_what_is_missing(field):
      ("98.5", "-0.01", "energy slope"), ("98.5", "2", "fraction")],
 )  # fmt: skip
 def test_office_request_refuses_bad_typing(level, slope, message):
-    from app.service import FieldService
+    from stakeline.app.service import FieldService
 
     with pytest.raises(ServiceError, match=message):
         FieldService.office_request(level, slope)
 
 
 def test_roughness_rows_are_chows_table():
-    from app.service import FieldService
-    from core.roughness import ROUGHNESS, SOURCE
+    from stakeline.app.service import FieldService
+    from stakeline.survey.roughness import ROUGHNESS, SOURCE
 
     rows = FieldService.roughness_rows()
     assert [r["key"] for r in rows] == [r.key for r in ROUGHNESS]
@@ -282,7 +281,7 @@ FOOT = 0.3048
 
 
 def test_plus_minus_defaults_round_trip_and_survive_a_restart(field, tmp_path):
-    from app.service import open_service
+    from stakeline.app.service import open_service
 
     # Defaults as issue 6 states them: ±5 mm on readings, ±10 mm on stations (common practice).
     settings = field.settings()
@@ -328,8 +327,8 @@ def test_bad_plus_minus_is_refused_and_nothing_is_stored(field, value):
 
 
 def test_office_bands_follow_the_settings(field):
-    from core.geometry import Section
-    from core.uncertainty import Precision, geometry_bands
+    from stakeline.survey.geometry import Section
+    from stakeline.survey.uncertainty import Precision, geometry_bands
 
     visit = _trapezoid_visit(field, "2026-05-01")
     widths = []

@@ -1,0 +1,104 @@
+"""``stakeline section`` and ``stakeline table``: figures of a section file at water levels."""
+
+from __future__ import annotations
+
+import csv
+import json
+import sys
+
+import numpy as np
+from stakeline.files.section_csv import read_section_csv
+from stakeline.survey.geometry import FIGURES, Section
+
+LABELS = {
+    "area": ("wetted area", "²"),
+    "wetted_perimeter": ("wetted perimeter", ""),
+    "top_width": ("top width", ""),
+    "hydraulic_radius": ("hydraulic radius", ""),
+    "hydraulic_depth": ("hydraulic depth", ""),
+    "max_depth": ("deepest water", ""),
+}
+
+
+def load_section(path: str) -> Section:
+    """Read a section CSV (``station``, ``elevation`` columns) into a :class:`Section`."""
+    rows = read_section_csv(path)
+    return Section(rows.stations, rows.elevations)
+
+
+def register(subparsers) -> None:
+    """Add ``section`` and ``table`` to the ``stakeline`` parser."""
+    p = subparsers.add_parser(
+        "section",
+        help="wetted area, perimeter, top width and hydraulic radius at one water level",
+        description="Figures of the section in FILE.csv (columns station, elevation; one length "
+        "unit) at water level S, in the file's unit.",
+    )
+    p.add_argument("file", metavar="FILE.csv")
+    p.add_argument(
+        "--stage", type=float, required=True, metavar="S", help="water level (elevation)"
+    )
+    p.add_argument("--unit", default="", help="unit label to print (e.g. m or ft); default none")
+    p.add_argument("--json", action="store_true", help="print a JSON object")
+    p.set_defaults(handler=run_section)
+
+    t = subparsers.add_parser(
+        "table",
+        help="figures over a range of water levels",
+        description="Figures of the section in FILE.csv for water levels A, A+C, ... up to B.",
+    )
+    t.add_argument("file", metavar="FILE.csv")
+    t.add_argument("--from", dest="start", type=float, required=True, metavar="A")
+    t.add_argument("--to", dest="stop", type=float, required=True, metavar="B")
+    t.add_argument("--step", type=float, required=True, metavar="C")
+    t.add_argument("--csv", action="store_true", help="print CSV instead of a table")
+    t.set_defaults(handler=run_table)
+
+
+def run_section(args) -> int:
+    """Print the figures of one water level."""
+    water = load_section(args.file).at(args.stage)
+    if args.json:
+        print(json.dumps(water.as_dict()))
+        return 0
+    unit = args.unit
+    print(f"water level {args.stage:g} {unit}".rstrip())
+    for name in FIGURES:
+        label, power = LABELS[name]
+        suffix = f" {unit}{power}" if unit else (" (unit²)" if power else "")
+        print(f"  {label:<18} {getattr(water, name):12.4f}{suffix}")
+    parts = ", ".join(f"{a:.3f} to {b:.3f}" for a, b in water.edges) or "none (dry)"
+    print(f"  {'water edges':<18} {parts}")
+    return 0
+
+
+def stage_range(start: float, stop: float, step: float) -> np.ndarray:
+    """Water levels from ``start`` to ``stop`` inclusive every ``step`` (survey unit)."""
+    from stakeline.app.cli import CommandError
+
+    if not step > 0:
+        raise CommandError(f"--step must be positive, got {step:g}")
+    if stop < start:
+        raise CommandError(f"--to ({stop:g}) is below --from ({start:g})")
+    count = int(np.floor((stop - start) / step + 1e-9)) + 1
+    if count > 100_000:
+        raise CommandError(f"{count} water levels asked for; use a larger --step (at most 100000)")
+    return start + step * np.arange(count)
+
+
+def run_table(args) -> int:
+    """Print the figures for a range of water levels."""
+    section = load_section(args.file)
+    stages = stage_range(args.start, args.stop, args.step)
+    table = section.table(stages)
+    if args.csv:
+        writer = csv.writer(sys.stdout, lineterminator="\n")
+        writer.writerow(["stage", *FIGURES])
+        for i, stage in enumerate(stages):
+            writer.writerow([f"{stage:.6g}", *(f"{table[n][i]:.6g}" for n in FIGURES)])
+        return 0
+    heads = ["stage", "area", "perimeter", "top width", "hyd radius", "hyd depth", "max depth"]
+    print("  ".join(f"{h:>10}" for h in heads))
+    for i, stage in enumerate(stages):
+        print("  ".join(f"{v:10.4f}" for v in [stage, *(table[n][i] for n in FIGURES)]))
+    return 0

@@ -1,0 +1,90 @@
+"""Small helpers of the service layer: typed-number parsing, station plans, the worker thread.
+
+Pure functions (no Kivy, no store) except :class:`Worker`, which reports back on the Kivy clock.
+"""
+
+from __future__ import annotations
+
+import math
+import threading
+
+import numpy as np
+from stakeline.errors import SurveyError
+
+
+class ServiceError(SurveyError):
+    """A request from a screen that cannot be done; the message is shown to the crew as is."""
+
+
+def parse_number(text: str, what: str) -> float:
+    """The number typed in ``text`` (a decimal comma counts as a point), else ServiceError."""
+    cleaned = str(text).strip().replace(",", ".")
+    try:
+        value = float(cleaned)
+    except ValueError:
+        raise ServiceError(f"{what}: {text!r} is not a number; type digits and one point") from None
+    if not math.isfinite(value):
+        raise ServiceError(f"{what}: {text!r} is not a finite number")
+    return value
+
+
+def uniform_stations(distance: float, count: int, step_round: float = 0.05) -> list[float]:
+    """A uniform station plan from 0 to ``distance`` (survey unit) with about ``count`` stations.
+
+    The spacing ``distance / (count - 1)`` is rounded to a multiple of ``step_round`` (easy to
+    mark on a tape); the far stake is always the last station.  Returns stations in order.
+
+    >>> uniform_stations(10.0, 11)
+    [0.0, 1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0, 10.0]
+    >>> uniform_stations(9.3, 5)
+    [0.0, 2.3, 4.6, 6.9, 9.3]
+    """
+    if not (distance > 0 and math.isfinite(distance)):
+        raise ServiceError(f"distance between stakes {distance:g} must be a positive number")
+    if count < 2:
+        raise ServiceError(f"station count {count} is too small; plan at least 2 stations")
+    spacing = max(round(distance / (count - 1) / step_round) * step_round, step_round)
+    stations = np.arange(0.0, distance, spacing)
+    stations = stations[distance - stations >= 0.5 * spacing]
+    return [round(float(s), 6) for s in stations] + [round(float(distance), 6)]
+
+
+def next_station(plan: list[float], read: set[float], current: float | None) -> float | None:
+    """The station to read after ``current``: the next planned one not yet read, else the first
+    unread planned station, else ``None`` (every planned station has a reading)."""
+    unread = [s for s in sorted(plan) if s not in read]
+    if current is not None:
+        later = [s for s in unread if s > current]
+        if later:
+            return later[0]
+    return unread[0] if unread else None
+
+
+class Worker:
+    """Runs functions on a background thread and hands results back on the Kivy clock."""
+
+    def __init__(self):
+        self.pending = 0
+        self.cancelled = False  # set when the app stops: late results are dropped
+
+    def run(self, function, on_done, on_error=None) -> None:
+        """Call ``function()`` on a thread; then ``on_done(result)`` or ``on_error(exc)`` on the UI
+        thread."""
+        from kivy.clock import Clock
+
+        self.pending += 1
+
+        def job():
+            try:
+                result = function()
+            except Exception as exc:  # reported to the crew, never swallowed
+                Clock.schedule_once(lambda _dt, e=exc: self._finish(on_error, e), 0)
+            else:
+                Clock.schedule_once(lambda _dt: self._finish(on_done, result), 0)
+
+        threading.Thread(target=job, daemon=True).start()
+
+    def _finish(self, callback, value) -> None:
+        self.pending -= 1
+        if callback is not None and not self.cancelled:
+            callback(value)

@@ -1,0 +1,5 @@
+"""``python -m stakeline``: the same as the ``stakeline`` command."""
+
+from stakeline.app.cli import main
+
+raise SystemExit(main())

@@ -1,0 +1,476 @@
+"""Field checks: find bad readings, gaps and missing edges while the crew is still at the section.
+
+One call, :func:`review`, runs every check on the points as entered and returns a list of
+:class:`Finding` -- each with a stable ``kind`` code, a ``severity``, the ``station`` it concerns, a
+plain-language ``message`` with units, and a ``suggestion`` the crew can act on.  Pure numpy: no UI,
+no SQL; called by the touch UI after every reading, by ``stakeline check`` and by office reports.
+
+========== ======== ===============================================================================
+kind       severity what it means
+========== ======== ===============================================================================
+order      block    a station entered after a larger one (stations go backwards), or the two
+                    readings of a vertical face entered in reverse order
+duplicate  warn     the same station and reading entered twice; block when two readings at one
+                    station disagree and the ground either side shows no vertical face
+overtopped block    the water level stands above an end of the survey
+spike      warn     a reading out of line with its neighbours (block when far out)
+gap        warn     a panel too wide: too large a share of the flow, much wider than the other
+                    panels, or wide across a slope break
+sparse     warn     fewer stations across the water than the crew's minimum
+edge       warn     water present but no station near a water's edge, or a station coded
+                    water's edge that is not at the water level
+line       block    line heights disagree with the level check; a reading negative or longer than
+                    the plumb; (warn) an elevation that is not line height minus reading
+closure    block    level-loop misclosure beyond tolerance
+========== ======== ===============================================================================
+
+Severities: ``block`` must be fixed, or overridden with a written reason, before the visit is
+finished; ``warn`` should be looked at; ``note`` is for information.  All lengths are in the
+survey's one unit (``"m"`` or ``"ft"``), which also picks the default tolerances
+(:meth:`CheckSettings.for_unit`).  The figures are field checks, not engineering review.
+
+Import everything from this module.  The code lives in four: this one (review, order, duplicate,
+line and closure checks), :mod:`stakeline.checks.spike` (spike), :mod:`stakeline.checks.water` (overtopped,
+sparse, edge, gap) and :mod:`stakeline.checks.common` (:class:`Finding`, :class:`CheckSettings`,
+formatting and input helpers shared by the others, importing none of them).
+
+>>> found = review(range(11), [2.0, 1.6, 1.3, 1.1, 1.0, 1.6, 1.0, 1.1, 1.3, 1.6, 2.0])
+>>> [(f.kind, f.severity, f.station) for f in found]
+[('spike', 'block', 5.0)]
+>>> review([0, 1, 2, 3, 4], [2.0, 1.0, 0.5, 1.0, 2.0], stage=2.2)[0].kind
+'overtopped'
+"""
+
+from __future__ import annotations
+
+import bisect
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import replace
+
+import numpy as np
+from stakeline.checks.common import (
+    BREAK_CODES,
+    FACE_CODES,
+    KINDS,
+    SEVERITIES,
+    CheckSettings,
+    Finding,
+    _as_array,
+    _at,
+    _inputs,
+    _len,
+    resolve_settings,
+)
+from stakeline.checks.spike import spike_findings, spike_scores
+from stakeline.checks.water import edge_findings, gap_findings, overtopped_findings, sparse_findings
+from stakeline.errors import SurveyError
+
+__all__ = [
+    "BREAK_CODES",
+    "FACE_CODES",
+    "KINDS",
+    "SEVERITIES",
+    "CheckSettings",
+    "Finding",
+    "closure_findings",
+    "closure_tolerance",
+    "duplicate_findings",
+    "edge_findings",
+    "gap_findings",
+    "line_findings",
+    "order_findings",
+    "overtopped_findings",
+    "reading_findings",
+    "resolve_settings",
+    "review",
+    "sparse_findings",
+    "spike_findings",
+    "spike_scores",
+]
+
+
+# ---------------------------------------------------------------------------- order, duplicate
+def _longest_rising(x: np.ndarray) -> np.ndarray:
+    """Mask of one longest non-decreasing subsequence of ``x`` (patience sorting)."""
+    tails: list[float] = []
+    tail_at: list[int] = []
+    before = [-1] * x.size
+    for i, v in enumerate(x.tolist()):
+        k = bisect.bisect_right(tails, v)
+        before[i] = tail_at[k - 1] if k else -1
+        if k == len(tails):
+            tails.append(v)
+            tail_at.append(i)
+        else:
+            tails[k] = v
+            tail_at[k] = i
+    keep = np.zeros(x.size, dtype=bool)
+    i = tail_at[-1] if tail_at else -1
+    while i >= 0:
+        keep[i] = True
+        i = before[i]
+    return keep
+
+
+def order_findings(stations: Sequence[float], unit: str = "m") -> list[Finding]:
+    """``order`` findings for stations that go backwards in the sequence as entered (``unit``).
+
+    The fewest points that, moved, leave the stations rising are named; a survey entered from the
+    other stake gives one finding for the whole sequence.
+
+    >>> [f.station for f in order_findings([0, 1, 2, 7, 4, 5, 6])]
+    [7.0]
+    """
+    x = np.asarray(stations, dtype=float)
+    step = np.diff(x)
+    if not np.any(step < 0):
+        return []
+    if np.count_nonzero(step < 0) > np.count_nonzero(step > 0):
+        return [
+            Finding(
+                "order",
+                "block",
+                float(x[0]),
+                f"stations run backwards (from {_at(x[0], unit)} down to {_at(x[-1], unit)}); "
+                "stations must increase from the origin stake across the section",
+                "measure stations from the origin stake, or reverse the order of the points "
+                "(and say which stake is the origin)",
+                0,
+            )
+        ]
+    keep = _longest_rising(x)
+    out = []
+    for i in np.flatnonzero(~keep).tolist():
+        lower = x[:i][keep[:i]]
+        upper = x[i + 1 :][keep[i + 1 :]]
+        low = _at(lower[-1], unit) if lower.size else "the start"
+        high = _at(upper[0], unit) if upper.size else "the end"
+        prev = _at(x[i - 1], unit) if i else "nothing"
+        out.append(
+            Finding(
+                "order",
+                "block",
+                float(x[i]),
+                f"point {i + 1}: station {_at(x[i], unit)} is out of order (entered after "
+                f"{prev}); stations must increase across the section",
+                f"check the tape at point {i + 1} and correct its station (a value between {low} "
+                f"and {high} fits here), or move the reading to where it belongs",
+                i,
+            )
+        )
+    return out
+
+
+def duplicate_findings(
+    stations: Sequence[float],
+    elevations: Sequence[float],
+    codes: Sequence[str] | None = None,
+    settings: CheckSettings | None = None,
+) -> list[Finding]:
+    """``duplicate`` findings for repeated stations (stations sorted, survey unit).
+
+    Two readings at one station are a vertical face (wall, cut or undercut bank) when the ground
+    either side steps the same way, or a code marks a face (:data:`FACE_CODES`); the same reading
+    twice is a double entry (warn); two different readings with no step either side disagree
+    (block); a face whose two readings step against the ground either side was entered in
+    reverse order (an ``order`` finding, block).
+
+    >>> [f.severity for f in duplicate_findings([0, 1, 1, 2], [1.0, 0.5, 0.5, 1.0])]
+    ['warn']
+    >>> duplicate_findings([0, 1, 1, 2], [2.0, 2.0, 0.5, 0.4])
+    []
+    """
+    cfg = settings or CheckSettings()
+    x, z = np.asarray(stations, dtype=float), np.asarray(elevations, dtype=float)
+    codes = list(codes) if codes is not None else [""] * x.size
+    out = []
+    for i in np.flatnonzero(np.diff(x) == 0).tolist():
+        j, unit = i + 1, cfg.unit
+        at, step = _at(x[i], unit), z[i + 1] - z[i]
+        both = f"{_len(z[i], unit)} and {_len(z[j], unit)}"
+        if abs(step) <= 2 * cfg.reading_precision:
+            message = f"station {at} was entered twice with the same reading ({both})"
+            todo = f"delete one of the two entries at {at}, then check that the next station "
+            out.append(
+                Finding("duplicate", "warn", float(x[i]), message, todo + "was not skipped", j)
+            )
+            continue
+        left = z[i - 1] if i > 0 and x[i - 1] < x[i] else z[i]
+        right = z[j + 1] if j + 1 < x.size and x[j + 1] > x[j] else z[j]
+        outer = right - left  # a face: the ground either side steps the same way
+        if outer * step < 0 and abs(outer) >= 0.5 * abs(step) and left != z[i] and right != z[j]:
+            message = (
+                f"the two readings of the vertical face at {at} ({both}) are in reverse order: "
+                f"the ground steps from {_len(left, unit)} to {_len(right, unit)} across it"
+            )
+            todo = (
+                f"swap the two entries at {at}: enter a face from left to right (on the left "
+                "bank the top first, on the right bank the toe first)"
+            )
+            out.append(Finding("order", "block", float(x[i]), message, todo, j))
+            continue
+        if (
+            codes[i] in FACE_CODES
+            or codes[j] in FACE_CODES
+            or (outer * step > 0 and abs(outer) >= 0.5 * abs(step))
+        ):
+            continue
+        message = (
+            f"station {at} has two readings {_len(abs(step), unit)} apart (elevations {both}) "
+            "but the ground either side shows no vertical face"
+        )
+        todo = (
+            f"re-read station {at} and delete the wrong entry; if it is a wall or cut bank, code "
+            "the two points as bank top and toe"
+        )
+        out.append(Finding("duplicate", "block", float(x[i]), message, todo, j))
+    return out
+
+
+# ---------------------------------------------------------------------------- line and closure
+def _number(meta: Mapping, key: str) -> float | None:
+    value = meta.get(key)
+    if value is None or value == "":
+        return None
+    try:
+        number = float(value)
+    except (TypeError, ValueError):
+        raise SurveyError(f"survey detail {key!r} is {value!r}, not a number") from None
+    if not math.isfinite(number):
+        raise SurveyError(f"survey detail {key!r} is {value!r}, not a finite number")
+    return number
+
+
+def _line_at(meta: Mapping, stations) -> np.ndarray | None:
+    """Elevation of the level line at ``stations`` (survey unit), or None without line heights.
+
+    As the store reduces readings: straight between the stakes (at 0 and ``stake_distance``,
+    from the ``origin`` stake) when their heights differ and the distance is known, else their
+    mean.
+    """
+    left, right = _number(meta, "line_left"), _number(meta, "line_right")
+    if left is None and right is None:
+        return None
+    left = right if left is None else left
+    right = left if right is None else right
+    x = np.asarray(stations, dtype=float)
+    distance = _number(meta, "stake_distance")
+    if left == right or not distance:
+        return np.full(x.shape, 0.5 * (left + right))
+    at_left, at_right = (0.0, distance) if meta.get("origin", "left") == "left" else (distance, 0.0)
+    return left + (right - left) * (x - at_left) / (at_right - at_left)
+
+
+def line_findings(meta: Mapping, settings=None) -> list[Finding]:
+    """``line`` findings: the line heights at the stakes against the crew's level check.
+
+    ``meta`` keys (survey unit): ``line_left``, ``line_right`` (line heights recorded at the
+    stakes), ``line_check`` (the line's height found by the level check) and optionally
+    ``line_check_station`` (where the check was taken; the line is straight between the stakes,
+    see ``stake_distance`` and ``origin``).  Without a station the line is meant to be level and
+    each stake's height must agree with the check within ``settings.line_tolerance``.
+    """
+    cfg = settings or CheckSettings()
+    left, right = _number(meta, "line_left"), _number(meta, "line_right")
+    check = _number(meta, "line_check")
+    if check is None or (left is None and right is None):
+        return []
+    at = _number(meta, "line_check_station")
+    if at is not None:
+        ends = [(f"the line at {_at(at, cfg.unit)}", float(_line_at(meta, at)))]
+    else:
+        ends = [
+            (n, v)
+            for n, v in (("the left stake", left), ("the right stake", right))
+            if v is not None
+        ]
+    out = []
+    for name, height in ends:
+        off = height - check
+        if abs(off) > cfg.line_tolerance:
+            out.append(
+                Finding(
+                    "line",
+                    "block",
+                    None,
+                    f"the line height at {name} ({_len(height, cfg.unit)}) differs from the level "
+                    f"check ({_len(check, cfg.unit)}) by {_len(abs(off), cfg.unit)}; tolerance "
+                    f"{_len(cfg.line_tolerance, cfg.unit)}",
+                    f"re-level the line at {name.removeprefix('the ')} (check it has not "
+                    "slipped or sagged), then re-enter its height",
+                )
+            )
+    return out
+
+
+def reading_findings(stations, readings, elevations=None, meta=None, settings=None):
+    """``line`` findings for readings no plumb (or rod) could give, and for elevations that are
+    not line height minus reading (stations, readings, elevations in the survey unit; NaN for a
+    reading not recorded)."""
+    cfg, meta = settings or CheckSettings(), meta or {}
+    x, r = np.asarray(stations, dtype=float), np.asarray(readings, dtype=float)
+    unit = cfg.unit
+    tool = "rod" if meta.get("method") == "rod" else "plumb"
+    longest = _number(meta, "plumb_length") or cfg.plumb_length
+    too_long = r > longest if longest is not None else np.zeros(r.size, dtype=bool)
+    out = []
+    for i in np.flatnonzero((r < 0) | too_long).tolist():
+        at, reading = _at(x[i], unit), _len(r[i], unit)
+        if r[i] < 0:
+            message = (
+                f"the reading at station {at} is negative ({reading}); a {tool} reading cannot be"
+            )
+            why = "a sign typed by mistake, or the line lifted?"
+        else:
+            message = f"the reading at station {at} ({reading}) is longer than the {tool} ({_len(longest, unit)})"
+            why = "a digit typed twice or missed?"
+        out.append(
+            Finding("line", "block", float(x[i]), message, f"re-read station {at} ({why})", i)
+        )
+    left, right = _number(meta, "line_left"), _number(meta, "line_right")
+    sloped = None not in (left, right) and left != right and not _number(meta, "stake_distance")
+    line = None if elevations is None or tool == "rod" or sloped else _line_at(meta, x)
+    if line is None:  # a sloping line with no stake distance: how it was reduced is not known
+        return out
+    expected = line - r
+    off = np.asarray(elevations, dtype=float) - expected
+    for i in np.flatnonzero(np.abs(off) > cfg.reading_precision).tolist():
+        at = _at(x[i], unit)
+        message = (
+            f"at station {at} the elevation {_len(off[i] + expected[i], unit)} is not line "
+            f"height minus reading ({_len(expected[i], unit)})"
+        )
+        todo = f"re-enter station {at} so that reading and elevation agree"
+        out.append(Finding("line", "warn", float(x[i]), message, todo, i))
+    return out
+
+
+def closure_tolerance(loop_length: float | None, settings=None) -> float:
+    """Allowed level-loop misclosure (survey unit) for a loop ``loop_length`` long (survey unit).
+
+    Third-order levelling: 12 mm x sqrt(K), K the loop length in km; 0.05 ft x sqrt(M), M in
+    miles (FGCC 1984; from memory).  Unknown length: 1 km (or 1 mile) is assumed.
+    ``settings.closure_tolerance`` replaces the formula when set.
+
+    >>> round(closure_tolerance(250.0), 4)
+    0.006
+    """
+    cfg = settings or CheckSettings()
+    if cfg.closure_tolerance is not None:
+        return float(cfg.closure_tolerance)
+    length = cfg.closure_length_unit if loop_length is None else float(loop_length)
+    return cfg.closure_coefficient * math.sqrt(max(length, 0.0) / cfg.closure_length_unit)
+
+
+def closure_findings(meta: Mapping, settings=None) -> list[Finding]:
+    """``closure`` finding for a level loop that closes on its benchmark beyond tolerance.
+
+    ``meta`` keys: ``backsights`` and ``foresights`` (lists, survey unit) or ``misclosure``, and
+    ``loop_length`` (survey unit, the distance levelled out and back).
+    """
+    cfg = settings or CheckSettings()
+    misclosure = _number(meta, "misclosure")
+    if misclosure is None and meta.get("backsights") is not None:
+        back = _as_array(meta["backsights"], "backsights")
+        fore = _as_array(meta.get("foresights") or [], "foresights")
+        misclosure = float(np.sum(back) - np.sum(fore))
+    if misclosure is None:
+        return []
+    length = _number(meta, "loop_length")
+    tol = closure_tolerance(length, cfg)
+    if abs(misclosure) <= tol:
+        return []
+    unit = cfg.unit
+    basis = (
+        "the tolerance set by the crew"
+        if cfg.closure_tolerance is not None
+        else "third-order levelling, FGCC 1984"
+        + (
+            ""
+            if length is not None
+            else f", loop length not given: 1 {'km' if unit == 'm' else 'mile'} assumed"
+        )
+    )
+    return [
+        Finding(
+            "closure",
+            "block",
+            None,
+            f"the level loop misses the benchmark by {_len(misclosure, unit)}; allowed "
+            f"{_len(tol, unit)} ({basis})",
+            "re-run the level loop back to the benchmark (check the backsight, the turning "
+            "points and the rod foot), then re-enter the readings",
+        )
+    ]
+
+
+# --------------------------------------------------------------------------------------- review
+_RANK = {severity: rank for rank, severity in enumerate(SEVERITIES)}
+
+
+def review(
+    stations: Sequence[float],
+    elevations: Sequence[float],
+    stage: float | None = None,
+    meta: Mapping | None = None,
+    codes: Sequence[str] | None = None,
+    readings: Sequence[float | None] | None = None,
+    settings: CheckSettings | Mapping | None = None,
+) -> list[Finding]:
+    """Run every field check on a section as entered; findings sorted by severity, then station.
+
+    ``stations``, ``elevations`` (survey unit) in the order entered -- stations may go backwards
+    or repeat, that is what the order and duplicate checks look for.  ``stage``: water level
+    (elevation) during the survey, or ``None`` to skip the checks that need water.  ``meta``: the
+    visit's details (``unit``, ``method`` "line" or "rod", ``line_left``, ``line_right``,
+    ``line_check``, ``line_check_station``, ``stake_distance``, ``origin``, ``plumb_length``,
+    ``backsights``, ``foresights``, ``misclosure``, ``loop_length``; other keys are ignored, so
+    a visit record can be passed as it is).
+    ``codes``: feature code of each point ("bank_top", "toe", "water_edge", "deepest", "bar" ...).
+    ``readings``: raw reading of each point (``None`` or NaN when unknown).  ``settings``: a
+    :class:`CheckSettings`, or a dict of overrides of the defaults for the survey's unit.
+
+    Fewer than 2 points give no findings; malformed input (non-numbers, NaN, lengths that differ)
+    raises :class:`stakeline.errors.SectionError` naming the point.  Indices in the findings refer to
+    the sequence as entered.
+    """
+    meta = dict(meta or {})
+    cfg = resolve_settings(settings, meta.get("unit") or None)
+    x, z, codes, readings = _inputs(stations, elevations, codes, readings)
+    out = line_findings(meta, cfg) + closure_findings(meta, cfg)
+    if readings is not None:
+        out += reading_findings(x, readings, z, meta, cfg)
+    if x.size < 2:
+        return _sorted(out)
+    out += order_findings(x, cfg.unit)
+    order = np.argsort(x, kind="stable")
+    xs, zs = x[order], z[order]
+    cs = [codes[i] for i in order]
+    rs = readings[order] if readings is not None else None
+    inner = duplicate_findings(xs, zs, cs, cfg)
+    twice = {f.station for f in inner if f.severity == "block"}  # one cause, one finding
+    inner += [f for f in spike_findings(xs, zs, cs, rs, cfg) if f.station not in twice]
+    if stage is not None:
+        stage = float(stage)
+        if not math.isfinite(stage):
+            raise SurveyError("the water level must be a finite number")
+        over = overtopped_findings(xs, zs, stage, cfg.unit)
+        inner += over
+        if not over and np.any(zs < stage):
+            inner += sparse_findings(xs, zs, stage, cfg)
+            inner += edge_findings(xs, zs, stage, cs, cfg)
+            inner += gap_findings(xs, zs, stage, cfg)
+    for f in inner:
+        if f.index is not None:
+            f = replace(f, index=int(order[f.index]), also=tuple(int(order[j]) for j in f.also))
+        out.append(f)
+    return _sorted(out)
+
+
+def _sorted(findings: list[Finding]) -> list[Finding]:
+    far = math.inf
+    return sorted(
+        findings,
+        key=lambda f: (_RANK[f.severity], far if f.station is None else f.station, f.kind),
+    )

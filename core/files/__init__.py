@@ -1,0 +1,1 @@
+"""Plain files in and out: section CSV files, and the stations, rating and GeoJSON exports."""

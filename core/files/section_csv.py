@@ -1,0 +1,92 @@
+"""Reading a cross-section from a CSV file with ``station`` and ``elevation`` columns.
+
+Pure file parsing: no SQL, no UI.  Errors name the file row (1-based, the header is row 1) so a
+person can open the file and fix it.
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from stakeline.errors import SectionFileError
+
+REQUIRED = ("station", "elevation")
+
+
+@dataclass(frozen=True)
+class SectionRows:
+    """Columns read from a section file: numbers for station/elevation, text for the rest."""
+
+    stations: list[float]
+    elevations: list[float]
+    rows: list[int]
+    extra: dict[str, list[str]] = field(default_factory=dict)
+
+
+def _number(text: str, column: str, row: int) -> float:
+    try:
+        value = float(text)
+    except (TypeError, ValueError):
+        raise SectionFileError(f"row {row}: {column} {text!r} is not a number", row=row) from None
+    if not math.isfinite(value):
+        raise SectionFileError(f"row {row}: {column} {text!r} is not a finite number", row=row)
+    return value
+
+
+def read_section_csv(path: str | Path, *, keep_order: bool = False) -> SectionRows:
+    """Read stations and elevations (survey unit) from a CSV file with a header row.
+
+    Columns are matched case-insensitively; other columns are kept as text in ``extra``.  Blank
+    lines are skipped.  Raises :class:`stakeline.errors.SectionFileError` naming the row at fault.
+    A station less than the one before it is an error, unless ``keep_order`` is true: then the
+    rows are returned in file order as they are, for the field checks to report as ``order``.
+    """
+    path = Path(path)
+    try:
+        with path.open(newline="", encoding="utf-8-sig") as handle:
+            lines = list(csv.reader(handle))
+    except FileNotFoundError:
+        raise SectionFileError(f"{path}: no such file") from None
+    except (OSError, UnicodeDecodeError, csv.Error) as exc:
+        raise SectionFileError(f"{path}: cannot be read as a text CSV file ({exc})") from None
+    if not lines:
+        raise SectionFileError(
+            f"{path}: the file is empty (no 'station' column); expected a header row with "
+            "station,elevation"
+        )
+    header = [name.strip().lower() for name in lines[0]]
+    for name in REQUIRED:
+        if name not in header:
+            raise SectionFileError(
+                f"{path}: row 1: no {name!r} column in the header ({','.join(header) or 'empty'})",
+                row=1,
+            )
+    where = {name: header.index(name) for name in header}
+    stations, elevations, rows = [], [], []
+    extra: dict[str, list[str]] = {n: [] for n in header if n not in REQUIRED}
+    for number, cells in enumerate(lines[1:], start=2):
+        if not any(cell.strip() for cell in cells):
+            continue
+        if len(cells) < len(header):
+            cells = cells + [""] * (len(header) - len(cells))
+        station = _number(cells[where["station"]], "station", number)
+        elevation = _number(cells[where["elevation"]], "elevation", number)
+        if not keep_order and stations and station < stations[-1]:
+            raise SectionFileError(
+                f"row {number}: station {station:g} is less than the station before it "
+                f"({stations[-1]:g}); stations must not decrease",
+                row=number,
+            )
+        stations.append(station)
+        elevations.append(elevation)
+        rows.append(number)
+        for name in extra:
+            extra[name].append(cells[where[name]].strip())
+    if len(stations) < 2:
+        raise SectionFileError(
+            f"{path}: a section needs at least 2 rows of data, found {len(stations)}"
+        )
+    return SectionRows(stations, elevations, rows, extra)

@@ -1,0 +1,540 @@
+"""Drawing of the office report pages (matplotlib, Agg; no pyplot state, no display).
+
+Called by :func:`stakeline.report.write_report`; every page is an A4 portrait figure with the cautions
+in its footer, and every plot and table names its units.
+"""
+
+from __future__ import annotations
+
+import io
+import textwrap
+from pathlib import Path
+
+import numpy as np
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.backends.backend_pdf import PdfPages
+from matplotlib.figure import Figure
+from stakeline.report.prepare import CAUTIONS, ReportData
+from stakeline.survey.compare import profile_panels
+from stakeline.survey.hydraulics import figure_unit
+from stakeline.survey.rating import RATING_COLUMNS
+from stakeline.survey.roughness import SOURCE
+
+A4 = (8.27, 11.69)
+STATIONS_PER_PAGE = 48
+RATING_ROWS = 28
+FLAG_COLOUR = "#c0392b"
+WATER_COLOUR = "#5dade2"
+FOOTER = (
+    "Estimates for field and office checking, not a design. Designs and safety decisions need "
+    "licensed review under local codes."
+)
+
+
+def draw_pages(data: ReportData) -> list[Figure]:
+    """All pages of the report, in order."""
+    pages = [_summary_page(data), _rating_page(data)]
+    if data.comparison is not None:
+        pages.append(_comparison_page(data))
+    pages += _station_pages(data)
+    for number, fig in enumerate(pages, start=1):
+        fig.text(0.5, 0.018, FOOTER, ha="center", fontsize=7, style="italic")
+        fig.text(0.95, 0.018, f"page {number} of {len(pages)}", ha="right", fontsize=7)
+        fig.text(0.05, 0.018, data.visit.get("date", ""), ha="left", fontsize=7)
+    return pages
+
+
+def save(figures: list[Figure], path: Path, fmt: str) -> None:
+    """Write ``figures`` as a multi-page PDF, or as one PNG with the pages stacked."""
+    if fmt == "pdf":
+        with PdfPages(path, metadata={"Title": "Stakeline section report"}) as pdf:
+            for fig in figures:
+                pdf.savefig(fig)
+        return
+    images = []
+    for fig in figures:
+        canvas = FigureCanvasAgg(fig)
+        canvas.draw()
+        images.append(np.asarray(canvas.buffer_rgba())[..., :3])
+    from matplotlib.image import imsave
+
+    buffer = io.BytesIO()
+    imsave(buffer, np.concatenate(images, axis=0), format="png")
+    Path(path).write_bytes(buffer.getvalue())
+
+
+def _page() -> Figure:
+    fig = Figure(figsize=A4)
+    FigureCanvasAgg(fig)
+    return fig
+
+
+def _u(name: str, unit: str) -> str:
+    return figure_unit(name, unit)
+
+
+def _header(fig: Figure, data: ReportData, subtitle: str) -> None:
+    v = data.visit
+    fig.text(0.05, 0.965, data.title, fontsize=14, weight="bold")
+    crew = ", ".join(v.get("crew") or []) or "not recorded"
+    line = f"{subtitle}   ·   visit {v.get('date', '?')}   ·   crew {crew}   ·   lengths in {data.unit}"
+    fig.text(0.05, 0.945, line, fontsize=8.5)
+
+
+def _table(fig: Figure, top: float, header, rows, widths=None, size: float = 7.5) -> float:
+    """Draw a table whose top edge is at figure height ``top``; returns the height below it."""
+    if not rows:
+        fig.text(0.05, top - 0.015, "none", fontsize=size)
+        return top - 0.025
+    height = (len(rows) + 1) * size * 2.1 / (A4[1] * 72)
+    ax = fig.add_axes((0.05, top - height, 0.9, height))
+    ax.axis("off")
+    table = ax.table(
+        cellText=rows, colLabels=header, colWidths=widths, bbox=(0, 0, 1, 1), cellLoc="left"
+    )
+    table.auto_set_font_size(False)
+    table.set_fontsize(size)
+    for (r, _), cell in table.get_celld().items():
+        cell.set_linewidth(0.3)
+        cell.PAD = 0.03
+        if r == 0:
+            cell.set_facecolor("#e8e8e8")
+            cell.set_text_props(weight="bold")
+    return top - height - 0.012
+
+
+def _paragraph(
+    fig: Figure, top: float, text: str, size: float = 7.5, width: int = 150, **kw
+) -> float:
+    """Wrapped text from figure height ``top`` down; returns the height below it."""
+    lines = [line for part in text.split("\n") for line in (textwrap.wrap(part, width) or [""])]
+    fig.text(0.05, top, "\n".join(lines), fontsize=size, va="top", **kw)
+    return top - len(lines) * size * 1.45 / (A4[1] * 72) - 0.01
+
+
+def _section_plot(ax, data: ReportData) -> None:
+    x = np.array([s["station"] for s in data.stations])
+    z = np.array([s["elevation"] for s in data.stations])
+    if data.previous is not None:
+        px = [s["station"] for s in data.previous["stations"]]
+        pz = [s["elevation"] for s in data.previous["stations"]]
+        ax.plot(
+            px,
+            pz,
+            "--",
+            color="0.55",
+            lw=1,
+            label=f"ground {data.previous['visit'].get('date', 'before')}",
+        )
+    if data.stage is not None:
+        ax.fill_between(
+            x,
+            z,
+            data.stage,
+            where=z < data.stage,
+            interpolate=True,
+            color=WATER_COLOUR,
+            alpha=0.5,
+            lw=0,
+        )
+        ax.axhline(
+            data.stage, color="#1f618d", lw=1, label=f"water level {data.stage:.3f} {data.unit}"
+        )
+    ax.plot(x, z, "-o", color="#4a3520", ms=3, lw=1.2, label="ground (this visit)")
+    flagged = np.isin(x, data.flagged)
+    if flagged.any():
+        ax.plot(x[flagged], z[flagged], "X", color=FLAG_COLOUR, ms=9, label="flagged station")
+    if data.bankfull is not None:
+        ax.axhline(
+            data.bankfull["stage"],
+            color="#a04000",
+            ls=":",
+            lw=1.2,
+            label=f"bankfull {data.bankfull['stage']:.3f} {data.unit}",
+        )
+    for k, s in enumerate(data.splits):
+        ax.axvline(s, color="0.3", ls="-.", lw=0.9, label="subsection split" if k == 0 else None)
+    if data.subsections:
+        edges = [x[0], *data.splits, x[-1]]
+        for part, a, b in zip(data.subsections, edges, edges[1:], strict=False):
+            if b - a < 0.12 * (x[-1] - x[0]):
+                continue  # too narrow to label; the table on page 2 names every subsection
+            ax.text(
+                (a + b) / 2,
+                0.97,
+                f"{part['name']}\nn = {part['n']:.3f}",
+                transform=ax.get_xaxis_transform(),
+                ha="center",
+                va="top",
+                fontsize=7,
+            )
+    for s in data.stations:
+        if s.get("code"):
+            ax.annotate(
+                s["code"].replace("_", " "),
+                (s["station"], s["elevation"]),
+                xytext=(0, -11),
+                textcoords="offset points",
+                fontsize=5.5,
+                ha="center",
+                color="0.35",
+            )
+    ax.set_xlabel(f"station from the {data.visit.get('origin') or 'left'} stake ({data.unit})")
+    ax.set_ylabel(f"elevation ({data.unit})")
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7, loc="best")
+
+
+def _figure_rows(data: ReportData) -> list[list[str]]:
+    unit, rows = data.unit, []
+    if data.stage is None:
+        return rows
+    rows.append(["water level", f"{data.stage:.3f}", "", unit])
+    for name, label in (
+        ("area", "wetted area"),
+        ("wetted_perimeter", "wetted perimeter"),
+        ("top_width", "top width"),
+        ("hydraulic_radius", "hydraulic radius"),
+    ):
+        band = data.bands.get(name)
+        if band is not None:
+            rows.append([label, f"{band.value:.3f}", f"± {band.plus_minus:.3f}", _u(name, unit)])
+    flow = data.flow
+    if flow is None:
+        return rows
+    q = data.bands.get("discharge")
+    rows += [
+        ["hydraulic depth A/T", f"{flow['hydraulic_depth']:.3f}", "", unit],
+        ["deepest water", f"{flow['max_depth']:.3f}", "", unit],
+        [
+            "discharge Q",
+            f"{flow['discharge']:.3f}",
+            f"± {q.plus_minus:.3f}" if q else "",
+            _u("discharge", unit),
+        ],
+        ["mean velocity Q/A", f"{flow['velocity']:.3f}", "", _u("velocity", unit)],
+        ["conveyance K = Q/√S", f"{flow['conveyance']:.3f}", "", _u("conveyance", unit)],
+        ["Froude number V/√(gD)", f"{flow['froude']:.3f}", "", "—"],
+        ["shear stress γRS", f"{flow['shear_stress']:.3f}", "", _u("shear_stress", unit)],
+        ["unit stream power γQS/T", f"{flow['stream_power']:.3f}", "", _u("stream_power", unit)],
+    ]
+    return rows
+
+
+def _roughness_text(data: ReportData) -> str:
+    if data.flow is None:
+        return (
+            "Discharge not computed: missing " + "; ".join(data.missing) + "."
+            if data.missing
+            else ""
+        )
+    n = (
+        data.n_values[0]
+        if len(data.n_values) == 1
+        else ", ".join(f"{v:.3f}" for v in data.n_values)
+    )
+    lines = [
+        f"Manning's n = {n}   ·   energy slope S = {data.slope:g}   ·   k = {'1' if data.unit == 'm' else '1.486'}"
+    ]
+    if data.row is not None:
+        lines.append(
+            f"Roughness row: {data.row.description} (n {data.row.minimum:.3f} / {data.row.normal:.3f} / {data.row.maximum:.3f}; {SOURCE})"
+        )
+    if data.n_range is not None:
+        qu = _u("discharge", data.unit)
+        r = data.n_range
+        lines.append(
+            f"Manning's n dominates the discharge uncertainty: Q = {r['minimum']:.3f} {qu} at the low n, "
+            f"{r['normal']:.3f} {qu} at the normal n, {r['maximum']:.3f} {qu} at the high n "
+            f"(readings alone: ± {data.bands['discharge'].plus_minus:.3f} {qu})."
+        )
+    else:
+        lines.append(
+            "n was typed, not chosen from the table: Manning's n still dominates the discharge uncertainty; choose a roughness row to see Q at its low and high n."
+        )
+    return "\n".join(lines)
+
+
+def _heading(fig: Figure, top: float, text: str) -> float:
+    fig.text(0.05, top, text, fontsize=9, weight="bold", va="top")
+    return top - 0.022
+
+
+def _summary_page(data: ReportData) -> Figure:
+    fig = _page()
+    _header(fig, data, f"section {data.visit.get('section', '')}")
+    levels = ", ".join(
+        f"{w['elevation']:.3f} ({w.get('time') or 'no time'})" for w in data.water_levels
+    )
+    info = f"Water levels read ({data.unit}): {levels or 'none read'}"
+    if data.visit.get("notes"):
+        info += f"\nNotes: {data.visit['notes']}"
+    _paragraph(fig, 0.925, info, 8)
+    _section_plot(fig.add_axes((0.1, 0.57, 0.85, 0.3)), data)
+    p = data.precision
+    top = _heading(fig, 0.525, "Figures at the water level")
+    top = _paragraph(
+        fig,
+        top,
+        f"± is the expanded uncertainty (k = 2, about 95 %) from the readings alone: reading "
+        f"± {p.reading:g} {data.unit}, station ± {p.station:g} {data.unit}, Monte Carlo with a "
+        "fixed seed.",
+        7.2,
+    )
+    top = _table(
+        fig,
+        top,
+        ["figure", "value", "± (readings)", "unit"],
+        _figure_rows(data),
+        [0.4, 0.2, 0.2, 0.2],
+    )
+    top = _paragraph(fig, top, _roughness_text(data), 7.2)
+    top = _heading(fig, top - 0.005, "Cautions")
+    _paragraph(fig, top, "\n".join(f"• {c}" for c in CAUTIONS), 7.2)
+    return fig
+
+
+def _rating_rows(data: ReportData) -> tuple[list[str], list[list[str]]]:
+    table = data.rating
+    names = [n for n in RATING_COLUMNS if n in table]
+    header = [f"{n.replace('_', ' ')} ({_u(n, data.unit)})" for n in names]
+    count = len(table["stage"])
+    pick = np.unique(np.linspace(0, count - 1, min(count, RATING_ROWS)).round().astype(int))
+    return header, [[f"{float(table[n][i]):.3f}" for n in names] for i in pick]
+
+
+def _rating_page(data: ReportData) -> Figure:
+    fig = _page()
+    _header(fig, data, "rating table and bankfull summary")
+    ax = fig.add_axes((0.12, 0.68, 0.8, 0.23))
+    table, has_q = data.rating, "discharge" in data.rating
+    key = "discharge" if has_q else "area"
+    ax.plot(table[key], table["stage"], "-", color="#1f618d")
+    ax.set_xlabel(f"{'discharge' if has_q else 'wetted area'} ({_u(key, data.unit)})")
+    ax.set_ylabel(f"water level ({data.unit})")
+    ax.grid(alpha=0.3)
+    if data.stage is not None and data.flow is not None:
+        ax.plot(
+            [data.flow["discharge"]],
+            [data.stage],
+            "o",
+            color=FLAG_COLOUR,
+            label="at the water level read",
+        )
+        ax.legend(fontsize=7)
+    top = _heading(fig, 0.63, "Rating table (uniform flow)" if has_q else "Section table")
+    if not has_q:
+        top = _paragraph(
+            fig, top, "Discharge not computed: missing " + "; ".join(data.missing) + "."
+        )
+    header, rows = _rating_rows(data)
+    top = _table(fig, top, header, rows, size=6.8)
+    _bankfull_and_parts(fig, data, top)
+    return fig
+
+
+def _bankfull_and_parts(fig: Figure, data: ReportData, top: float) -> None:
+    unit, b = data.unit, data.bankfull
+    top = _heading(fig, top, "Bankfull summary")
+    if b is None:
+        text = "No bank top coded on both sides of the deepest point; give --bankfull."
+    else:
+        text = (
+            f"At {b['stage']:.3f} {unit}: width {b['width']:.3f} {unit}, mean depth "
+            f"{b['mean_depth']:.3f} {unit}, maximum depth {b['max_depth']:.3f} {unit}, width/depth "
+            f"ratio {b['width_depth_ratio']:.1f}, area {b['area']:.3f} {_u('area', unit)}."
+        )
+    top = _paragraph(fig, top, text)
+    if data.subsections:
+        top = _heading(
+            fig, top, "Divided-channel method at the water level (split at the bank tops)"
+        )
+        rows = [
+            [
+                p["name"],
+                f"{p['n']:.3f}",
+                f"{p['area']:.3f}",
+                f"{p['wetted_perimeter']:.3f}",
+                f"{p['conveyance']:.3f}",
+            ]
+            for p in data.subsections
+        ]
+        header = ["subsection", "n", f"area ({_u('area', unit)})", f"wetted perimeter ({unit})",
+                  f"conveyance ({_u('conveyance', unit)})"]  # fmt: skip
+        _table(fig, top, header, rows, size=7)
+
+
+def _comparison_page(data: ReportData) -> Figure:
+    fig = _page()
+    before = data.previous["visit"].get("date", "before")
+    _header(fig, data, f"change since the visit of {before}")
+    overlay_plot(
+        fig.add_axes((0.1, 0.55, 0.85, 0.36)),
+        data.previous["stations"],
+        data.stations,
+        data.unit,
+        (before, data.visit.get("date", "after")),
+    )
+    _table(fig, 0.49, ["change", "value", "unit"], _comparison_rows(data), [0.55, 0.25, 0.2])
+    return fig
+
+
+def overlay_plot(ax, before: list[dict], after: list[dict], unit: str, labels=("before", "after")):
+    """Both ground lines on ``ax`` with scour shaded red and fill blue; axes labelled in ``unit``."""
+    bx, bz = [s["station"] for s in before], [s["elevation"] for s in before]
+    nx, nz = [s["station"] for s in after], [s["elevation"] for s in after]
+    left, right, b0, b1, a0, a1 = profile_panels(bx, bz, nx, nz)
+    xs = np.column_stack([left, right]).ravel()
+    base, now = np.column_stack([b0, b1]).ravel(), np.column_stack([a0, a1]).ravel()
+    for where, colour, label in (
+        (now < base, FLAG_COLOUR, "scour"),
+        (now > base, "#2e86c1", "fill"),
+    ):
+        ax.fill_between(
+            xs,
+            base,
+            now,
+            where=where,
+            interpolate=True,
+            color=colour,
+            alpha=0.45,
+            lw=0,
+            label=label,
+        )
+    ax.plot(bx, bz, "--", color="0.45", lw=1, label=f"ground {labels[0]}")
+    ax.plot(nx, nz, "-", color="#4a3520", lw=1.2, label=f"ground {labels[1]}")
+    ax.set_xlabel(f"station ({unit})")
+    ax.set_ylabel(f"elevation ({unit})")
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7)
+
+
+def _comparison_rows(data: ReportData) -> list[list[str]]:
+    c, unit, area = data.comparison, data.unit, _u("area", data.unit)
+    rows = [
+        ["scour (bed lowered), area", f"{c['scour_area']:.3f}", area],
+        ["fill (bed raised), area", f"{c['fill_area']:.3f}", area],
+        ["net change (fill − scour)", f"{c['net_change']:+.3f}", area],
+        ["compared over stations", f"{c['start']:g} to {c['end']:g}", unit],
+        [
+            "deepest point before: station, elevation",
+            f"{c['deepest_before'][0]:g}, {c['deepest_before'][1]:.3f}",
+            unit,
+        ],
+        [
+            "deepest point now: station, elevation",
+            f"{c['deepest_after'][0]:g}, {c['deepest_after'][1]:.3f}",
+            unit,
+        ],
+        ["deepest point moved (+ = away from origin)", f"{c['deepest_shift']:+.3f}", unit],
+        ["deepest point lowered by", f"{c['deepest_drop']:+.3f}", unit],
+    ]
+    if "stage" in c:
+        rows += [
+            [
+                f"wetted area at {c['stage']:.3f}: before → now",
+                f"{c['area_before']:.3f} → {c['area_after']:.3f}",
+                area,
+            ],
+            ["change in wetted area", f"{c['area_change']:+.3f}", area],
+            [
+                f"top width at {c['stage']:.3f}: before → now",
+                f"{c['top_width_before']:.3f} → {c['top_width_after']:.3f}",
+                unit,
+            ],
+            ["change in top width", f"{c['top_width_change']:+.3f}", unit],
+        ]
+    return rows
+
+
+def _station_pages(data: ReportData) -> list[Figure]:
+    unit, flagged = data.unit, set(data.flagged)
+    rows = [
+        [f"{s['station']:.3f}", "" if s.get("reading") is None else f"{s['reading']:.3f}",
+         f"{s['elevation']:.3f}", (s.get("code") or "").replace("_", " "),
+         ("FLAGGED  " if s["station"] in flagged else "") + _clip(s.get("note") or "", 70)]
+        for s in data.stations
+    ]  # fmt: skip
+    header = [f"station ({unit})", f"reading ({unit})", f"elevation ({unit})", "code", "note"]
+    chunks = [rows[i : i + STATIONS_PER_PAGE] for i in range(0, len(rows), STATIONS_PER_PAGE)]
+    if len(chunks[-1]) > STATIONS_PER_PAGE - 18:  # leave room for findings on the last page
+        chunks.append([])
+    pages = []
+    for k, chunk in enumerate(chunks):
+        fig = _page()
+        _header(fig, data, "stations and field checks")
+        top = 0.91
+        if chunk:
+            top = _table(fig, top, header, chunk, [0.13, 0.13, 0.13, 0.14, 0.47], size=7)
+        if k == len(chunks) - 1:
+            _findings(fig, data, top)
+        pages.append(fig)
+    return pages
+
+
+def _findings(fig: Figure, data: ReportData, top: float) -> None:
+    top = _heading(fig, top - 0.005, "Field-check findings")
+    if data.findings is None:
+        top = _paragraph(fig, top, "Field checks were not available when this report was made.")
+    rows = [
+        [f.get("severity", ""), f.get("kind", ""), "" if f.get("station") is None else f"{f['station']:g}",
+         _clip(f.get("message", ""), 70), _clip(f.get("suggestion", ""), 42)]
+        for f in (data.findings or [])
+    ][:14]  # fmt: skip
+    header = ["severity", "kind", f"station ({data.unit})", "message", "suggestion"]
+    top = _table(fig, top, header, rows, [0.08, 0.1, 0.1, 0.45, 0.27], size=6.2)
+    top = _heading(fig, top, "Overrides (findings accepted with a written reason)")
+    rows = [
+        [o.get("kind", ""), "" if o.get("station") is None else f"{o['station']:g}",
+         _clip(o.get("reason", ""), 90), o.get("device", "")]
+        for o in data.overrides
+    ][:10]  # fmt: skip
+    _table(
+        fig,
+        top,
+        ["kind", f"station ({data.unit})", "reason", "device"],
+        rows,
+        [0.12, 0.12, 0.56, 0.2],
+        size=6.5,
+    )
+
+
+def _clip(text: str, width: int) -> str:
+    return text if len(text) <= width else text[: width - 1] + "…"
+
+
+def _single_plot(path, title: str, draw) -> Path:
+    from stakeline.errors import SurveyError
+
+    path = Path(path)
+    if path.suffix.lower() not in (".png", ".pdf"):
+        raise SurveyError(f"{path}: a plot is written as .png or .pdf")
+    fig = Figure(figsize=(7, 5))
+    FigureCanvasAgg(fig)
+    ax = fig.add_axes((0.12, 0.12, 0.83, 0.76))
+    draw(ax)
+    ax.set_title(title, fontsize=10)
+    fig.text(0.5, 0.015, FOOTER, ha="center", fontsize=6.5, style="italic")
+    try:
+        fig.savefig(path)
+    except OSError as exc:
+        raise SurveyError(f"{path}: cannot be written ({exc.strerror or exc})") from None
+    return path
+
+
+def write_rating_plot(table: dict, unit: str, title: str, path) -> Path:
+    """Plot a rating curve (water level against discharge, with units) to ``.png`` or ``.pdf``."""
+
+    def draw(ax):
+        ax.plot(table["discharge"], table["stage"], "-", color="#1f618d")
+        ax.set_xlabel(f"discharge ({_u('discharge', unit)})")
+        ax.set_ylabel(f"water level ({unit})")
+        ax.grid(alpha=0.3)
+
+    return _single_plot(path, title, draw)
+
+
+def write_overlay_plot(before: list[dict], after: list[dict], unit: str, labels, path) -> Path:
+    """Plot two visits' ground lines with scour and fill shaded to ``.png`` or ``.pdf``."""
+    title = f"change from {labels[0]} to {labels[1]}"
+    return _single_plot(path, title, lambda ax: overlay_plot(ax, before, after, unit, labels))

@@ -1,0 +1,5 @@
+"""The durable store (the only SQL in Stakeline) and visit packages for office sync."""
+
+from stakeline.store.store import DEMO_PATH, METHODS, Store, StoreError
+
+__all__ = ["DEMO_PATH", "METHODS", "Store", "StoreError"]

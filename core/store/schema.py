@@ -1,0 +1,188 @@
+"""Schema of the Stakeline store and its forward migrations (used only by :mod:`stakeline.store`).
+
+The schema version lives in SQLite's ``PRAGMA user_version``.  ``MIGRATIONS[k]`` takes a file at
+version ``k`` to ``k + 1``; a new version only ever *adds* a migration at the end, so every file
+ever written can be carried forward one step at a time.  Each step runs inside one transaction
+with the version bump, so a crash mid-migration leaves the file at the old version, whole.
+
+Versions:
+
+1. field records: sites, sections, visits, station versions (append-only), water levels,
+   overrides, edits (before/after of every change to a site, section or visit), meta (device id).
+2. device settings table (unit, crew, precision, tolerances) and an index of visits by section.
+3. office import log: every package file accepted, with its checksum and outcome.
+4. index of station versions by visit and entry order, so saving a reading stays as fast with
+   the thousandth reading of a visit as with the first.
+"""
+
+from __future__ import annotations
+
+import sqlite3
+from collections.abc import Callable
+
+import sqlite_utils
+
+STAMPS = {"created": str, "modified": str, "device": str}
+"""Columns every record carries: ISO 8601 UTC times and the id of the device that wrote it."""
+
+
+def _v1_field_records(db: sqlite_utils.Database) -> None:
+    """Version 1: the field records."""
+    db["meta"].create({"key": str, "value": str}, pk="key")
+    db["sites"].create(
+        {"uuid": str, "name": str, "stream": str, "description": str, **STAMPS}, pk="uuid"
+    )
+    db["sections"].create(
+        {
+            "uuid": str,
+            "site_uuid": str,
+            "name": str,
+            "left_stake": str,
+            "right_stake": str,
+            "origin": str,
+            "benchmark_name": str,
+            "benchmark_elevation": float,
+            "benchmark_assumed": int,
+            "left_lon": float,
+            "left_lat": float,
+            "right_lon": float,
+            "right_lat": float,
+            **STAMPS,
+        },
+        pk="uuid",
+        foreign_keys=[("site_uuid", "sites", "uuid")],
+    )
+    db["visits"].create(
+        {
+            "uuid": str,
+            "section_uuid": str,
+            "date": str,
+            "crew": str,  # JSON list of names
+            "unit": str,
+            "method": str,
+            "line_left": float,
+            "line_right": float,
+            "line_check": float,
+            "stake_distance": float,
+            "backsight": float,
+            "notes": str,
+            "planned": str,  # JSON list of stations
+            "settings": str,  # JSON object
+            "finished": str,  # time the visit was finished, or NULL
+            **STAMPS,
+        },
+        pk="uuid",
+        foreign_keys=[("section_uuid", "sections", "uuid")],
+    )
+    db["station_versions"].create(
+        {
+            "id": int,
+            "uuid": str,
+            "station_uuid": str,
+            "visit_uuid": str,
+            "action": str,  # add | correct | remove | undo
+            "station": float,
+            "reading": float,
+            "code": str,
+            "note": str,
+            "seq": int,
+            "undoes": str,
+            "created": str,
+            "device": str,
+        },
+        pk="id",
+        not_null={"uuid", "station_uuid", "visit_uuid", "action", "created", "device"},
+    )
+    db["station_versions"].create_index(["uuid"], unique=True)
+    db["station_versions"].create_index(["visit_uuid", "id"])
+    for name, columns in {
+        "water_levels": {"elevation": float, "time": str},
+        "overrides": {"kind": str, "station": float, "reason": str},
+    }.items():
+        db[name].create({"uuid": str, "visit_uuid": str, **columns, **STAMPS}, pk="uuid")
+        db[name].create_index(["visit_uuid"])
+    db["edits"].create(
+        {
+            "id": int,
+            "uuid": str,
+            "record_table": str,
+            "record_uuid": str,
+            "before": str,  # JSON object of the changed fields' old values
+            "after": str,  # JSON object of their new values
+            "created": str,
+            "device": str,
+        },
+        pk="id",
+    )
+    db["edits"].create_index(["uuid"], unique=True)
+    db["edits"].create_index(["record_uuid", "id"])
+
+
+def _v2_settings(db: sqlite_utils.Database) -> None:
+    """Version 2: device settings, and visits found by section without a table scan."""
+    db["settings"].create({"key": str, "value": str, "modified": str}, pk="key")
+    db["visits"].create_index(["section_uuid", "date"])
+
+
+def _v3_import_log(db: sqlite_utils.Database) -> None:
+    """Version 3: the office's log of imported package files (idempotent import, conflicts)."""
+    db["packages"].create(
+        {
+            "file_sha": str,
+            "content_sha": str,
+            "visit_uuid": str,
+            "device": str,
+            "status": str,  # imported | updated | present | conflict
+            "reason": str,
+            "content": str,  # the package's content, canonical JSON (kept whole for review)
+            "imported": str,
+            "resolved": str,
+        },
+        pk="file_sha",
+    )
+    db["packages"].create_index(["content_sha"])
+    db["packages"].create_index(["visit_uuid"])
+
+
+def _v4_entry_order_index(db: sqlite_utils.Database) -> None:
+    """Version 4: the next entry number of a visit comes from an index, not a table scan."""
+    db["station_versions"].create_index(["visit_uuid", "seq"])
+
+
+MIGRATIONS: list[Callable[[sqlite_utils.Database], None]] = [
+    _v1_field_records,
+    _v2_settings,
+    _v3_import_log,
+    _v4_entry_order_index,
+]
+"""``MIGRATIONS[k]`` carries a store from schema version ``k`` to ``k + 1``."""
+
+LATEST = len(MIGRATIONS)
+"""The schema version this code writes."""
+
+
+def schema_version(conn: sqlite3.Connection) -> int:
+    """The schema version recorded in an open SQLite file (0 for a new, empty file)."""
+    return int(conn.execute("PRAGMA user_version").fetchone()[0])
+
+
+def migrate(db: sqlite_utils.Database, target: int = LATEST) -> int:
+    """Apply the forward migrations that take ``db`` to version ``target``; returns that version.
+
+    Each step and its version bump are one transaction.
+    """
+    conn = db.conn
+    version = schema_version(conn)
+    while version < target:
+        conn.execute("BEGIN IMMEDIATE")
+        try:
+            if schema_version(conn) == version:  # another process may have migrated it
+                MIGRATIONS[version](db)
+                conn.execute(f"PRAGMA user_version = {version + 1:d}")
+            conn.execute("COMMIT")
+        except BaseException:
+            if conn.in_transaction:
+                conn.execute("ROLLBACK")
+            raise
+        version = schema_version(conn)
+    return version

@@ -1,0 +1,285 @@
+"""The store's side of office sync: a visit's raw records out, and a merge of them back in.
+
+Part of the store (mixed into :class:`stakeline.store.Store`); the file format, checksums and limits
+live in :mod:`stakeline.store.package`, which holds no SQL.
+
+Merging never overwrites.  Each site, section and visit has a history of changes with their own
+UUIDs (``edits``; for a visit also its station versions, water levels and overrides).  When the
+incoming history contains the office's, the office copy is brought forward; when the office's
+contains the incoming one, nothing changes; when each holds changes the other lacks, the office
+copy stays as it is, the incoming package is kept whole in the ``packages`` table and the
+import reports a conflict for a person to resolve.
+"""
+
+from __future__ import annotations
+
+import json
+import sqlite3
+from typing import Any
+
+from stakeline.store.values import StoreError, canonical_json, choice, now, replay
+
+RECORD_TABLES = ("sites", "sections", "visits")
+CHILD_TABLES = ("station_versions", "water_levels", "overrides")
+JSON_COLUMNS = {"crew", "planned", "settings", "before", "after"}
+"""Columns held as JSON text in SQLite and as JSON values in a package."""
+
+
+def _decode(row: dict) -> dict:
+    out = {k: (json.loads(v) if k in JSON_COLUMNS and v is not None else v) for k, v in row.items()}
+    out.pop("id", None)
+    return out
+
+
+def _encode(record: dict) -> dict:
+    return {k: (canonical_json(v) if k in JSON_COLUMNS else v) for k, v in record.items()}
+
+
+class StoreSync:
+    """Package export and office merge methods of :class:`stakeline.store.Store`."""
+
+    _columns: dict[str, set[str]] = {}
+
+    def visit_records(self, visit_uuid: str) -> dict[str, Any]:
+        """Everything about one visit as plain JSON-ready data: ``site``, ``section``, ``visit``
+        (raw rows), and lists ``edits`` (of the three), ``station_versions``, ``water_levels``,
+        ``overrides`` (every version, oldest first).  Lengths in the visit's unit."""
+        visit = self._get("visits", visit_uuid, "visit")
+        section = self._get("sections", visit["section_uuid"], "section")
+        site = self._get("sites", section["site_uuid"], "site")
+        owners = [site["uuid"], section["uuid"], visit["uuid"]]
+        records: dict[str, Any] = {
+            "site": _decode(site),
+            "section": _decode(section),
+            "visit": _decode(visit),
+            "edits": [
+                _decode(r)
+                for r in self._rows(
+                    "SELECT * FROM edits WHERE record_uuid IN (?, ?, ?) ORDER BY id", owners
+                )
+            ],
+        }
+        order = {"station_versions": "id", "water_levels": "created", "overrides": "created"}
+        for table in CHILD_TABLES:
+            records[table] = [
+                _decode(r)
+                for r in self._rows(
+                    f"SELECT * FROM {table} WHERE visit_uuid = ? ORDER BY {order[table]}",
+                    [visit_uuid],
+                )
+            ]
+        return records
+
+    def package_seen(self, file_sha: str) -> dict | None:
+        """The import log entry of a package file by its SHA-256, or None: {file_sha,
+        content_sha, visit_uuid, device, status, reason, imported, resolved}."""
+        return self._row(
+            "SELECT file_sha, content_sha, visit_uuid, device, status, reason, imported, resolved"
+            " FROM packages WHERE file_sha = ?",
+            [file_sha],
+        )
+
+    def conflicts(self) -> list[dict]:
+        """Imported packages that conflict with the office copy and are not resolved yet
+        (keys as :meth:`package_seen`), oldest first."""
+        return self._rows(
+            "SELECT file_sha, content_sha, visit_uuid, device, status, reason, imported, resolved"
+            " FROM packages WHERE status = 'conflict' AND resolved IS NULL ORDER BY imported"
+        )
+
+    def package_content(self, file_sha: str) -> dict:
+        """The records of an imported package (as :meth:`visit_records`), e.g. to review a
+        conflict."""
+        row = self._row("SELECT content FROM packages WHERE file_sha = ?", [file_sha])
+        if row is None:
+            raise StoreError(f"no imported package with checksum {file_sha!r}")
+        return json.loads(row["content"])["records"]
+
+    def resolve_conflict(self, file_sha: str, keep: str = "office") -> dict:
+        """Resolve an imported package's conflict; returns its log entry (as
+        :meth:`package_seen`).  ``file_sha`` may be a unique start of the checksum (>= 8 hex).
+
+        ``keep="office"``: the office copy stands.  ``keep="merge"``: every change in the
+        package that the office lacks (station versions, water levels, overrides, field edits of
+        the site, section and visit) is added after the office's own, so the package's
+        corrections come last and win; nothing of either copy is dropped.  The package stays in
+        the log either way.
+        """
+        choice(keep, ("office", "merge"), "keep")
+        entries = self._rows(
+            "SELECT file_sha, content, visit_uuid FROM packages WHERE status = 'conflict'"
+            " AND resolved IS NULL AND file_sha LIKE ? || '%'",
+            [file_sha if len(str(file_sha)) >= 8 else "-"],
+        )
+        if len(entries) != 1:
+            found = "several" if entries else "no"
+            raise StoreError(f"{found} unresolved conflicts match {file_sha!r}; see the list")
+        entry = entries[0]
+        with self.transaction():
+            if keep == "merge":
+                self._merge_missing(json.loads(entry["content"])["records"])
+            self.conn.execute(
+                "UPDATE packages SET resolved = ?, reason = reason || ? WHERE file_sha = ?",
+                [now(), f" -- resolved: {keep}", entry["file_sha"]],
+            )
+        return self.package_seen(entry["file_sha"])
+
+    def _merge_missing(self, records: dict) -> None:
+        """Add the records' changes the office lacks after the office's own (see
+        :meth:`resolve_conflict`)."""
+        for table, key in (("sites", "site"), ("sections", "section"), ("visits", "visit")):
+            uuid = records[key]["uuid"]
+            office = self._history(uuid, table)
+            missing = [e for e in records["edits"] if e["record_uuid"] == uuid]
+            missing = [e for e in missing if e["uuid"] not in office]
+            for edit in missing:
+                after = edit["after"]  # raw column values, as the store logged them
+                self._checked(table, after)  # only known columns
+                assignments = ", ".join(f"{k} = ?" for k in after)
+                self.conn.execute(
+                    f"UPDATE {table} SET {assignments}, modified = ?, device = ? WHERE uuid = ?",
+                    [*after.values(), edit["created"], edit["device"], uuid],
+                )
+            children = [(t, r) for t in CHILD_TABLES for r in records[t]] if key == "visit" else []
+            history = [("edits", e) for e in missing] + children
+            self._insert_history([(t, r) for t, r in history if r["uuid"] not in office])
+
+    def import_visit_records(
+        self, records: dict, file_sha: str, content_sha: str, device: str, content: str
+    ) -> dict:
+        """Merge a verified package's records in one transaction; returns {status, visit,
+        message}, status one of ``imported``, ``updated``, ``present``, ``conflict``.
+
+        ``content`` (the package's canonical text) is kept in the import log.  Raises
+        StoreError, leaving the store unchanged, when a record clashes with another visit's.
+        """
+        visit_uuid = records["visit"]["uuid"]
+        try:
+            with self.transaction():
+                result = self._merge_package(records, content_sha, visit_uuid, device)
+                self._insert(
+                    "packages",
+                    {"file_sha": file_sha, "content_sha": content_sha, "visit_uuid": visit_uuid,
+                     "device": device, "status": result["status"], "reason": result["message"],
+                     "content": content, "imported": now(), "resolved": None},
+                )  # fmt: skip
+        except sqlite3.IntegrityError as exc:
+            raise StoreError(
+                f"its records clash with other records in the office ({exc})"
+            ) from None
+        return result
+
+    def _merge_package(self, records: dict, content_sha: str, visit_uuid: str, device: str) -> dict:
+        label = f"visit {records['visit']['date']} {records['section']['name']!r}"
+        same = self._row(
+            "SELECT status, resolved FROM packages WHERE content_sha = ? AND visit_uuid = ? "
+            "ORDER BY status = 'conflict' AND resolved IS NULL DESC LIMIT 1",
+            [content_sha, visit_uuid],
+        )
+        if same is not None:
+            if same["status"] == "conflict" and same["resolved"] is None:
+                return self._result("conflict", visit_uuid, f"{label}: unresolved conflict, "
+                                    "the same content was imported before")  # fmt: skip
+            return self._result("present", visit_uuid, f"{label}: already present")
+        edits = records["edits"]
+        notes, conflict = [], False
+        for table, key in (("sites", "site"), ("sections", "section")):
+            record = records[key]
+            own = [e for e in edits if e["record_uuid"] == record["uuid"]]
+            outcome = self._merge_record(table, record, own, [])
+            if outcome == "conflict":
+                conflict = True
+                notes.append(f"{key} {record['name']!r} differs from the office copy (kept)")
+        own = [e for e in edits if e["record_uuid"] == visit_uuid]
+        children = [(t, r) for t in CHILD_TABLES for r in records[t]]
+        outcome = self._merge_record("visits", records["visit"], own, children)
+        current, _, _ = replay(records["station_versions"])
+        count = sum(v["action"] != "remove" for v in current.values())
+        if outcome == "conflict":
+            conflict = True
+            notes.insert(0, f"{label} was changed both in the office and on {device}; "
+                         "the office copy is kept and this package saved for review")  # fmt: skip
+        if conflict:
+            return self._result("conflict", visit_uuid, "conflict: " + "; ".join(notes))
+        extra = f" ({'; '.join(notes)})" if notes else ""
+        if outcome == "new":
+            return self._result(
+                "imported", visit_uuid, f"imported {label}, {count} stations{extra}"
+            )
+        if outcome == "newer":
+            return self._result("updated", visit_uuid, f"updated {label}, {count} stations{extra}")
+        newer = "; the office copy is newer" if outcome == "older" else ""
+        return self._result("present", visit_uuid, f"{label}: already present{newer}{extra}")
+
+    @staticmethod
+    def _result(status: str, visit_uuid: str, message: str) -> dict:
+        return {"status": status, "visit": visit_uuid, "message": message}
+
+    def _history(self, record_uuid: str, table: str) -> set[str]:
+        found = {
+            r[0]
+            for r in self.conn.execute(
+                "SELECT uuid FROM edits WHERE record_uuid = ?", [record_uuid]
+            )
+        }
+        if table == "visits":
+            for child in CHILD_TABLES:
+                found.update(
+                    r[0]
+                    for r in self.conn.execute(
+                        f"SELECT uuid FROM {child} WHERE visit_uuid = ?", [record_uuid]
+                    )
+                )
+        return found
+
+    def _checked(self, table: str, record: dict) -> dict:
+        """``record`` encoded for ``table``; StoreError if it names a column the table lacks."""
+        if table not in self._columns:
+            self._columns[table] = {r[1] for r in self.conn.execute(f"PRAGMA table_info({table})")}
+        unknown = set(record) - self._columns[table] - {"id"}
+        if unknown:
+            raise StoreError(f"{table} records have no field {sorted(unknown)[0]!r}")
+        return _encode(record)
+
+    def _merge_record(
+        self, table: str, record: dict, edits: list[dict], children: list[tuple[str, dict]]
+    ) -> str:
+        """Merge one site/section/visit with its history: ``new``, ``newer`` (office brought
+        forward), ``same``, ``older`` (office already newer) or ``conflict`` (office kept)."""
+        encoded = self._checked(table, record)
+        existing = self._row(f"SELECT * FROM {table} WHERE uuid = ?", [record["uuid"]])
+        history = [("edits", e) for e in edits] + children
+        if existing is None:
+            self._insert(table, encoded)
+            self._insert_history(history)
+            return "new"
+        office = self._history(record["uuid"], table)
+        incoming = {row["uuid"] for _, row in history}
+        if incoming <= office:
+            if incoming == office and existing != encoded:
+                return "conflict"
+            return "same" if incoming == office else "older"
+        if not office <= incoming:
+            return "conflict"
+        columns = {k: v for k, v in encoded.items() if k != "uuid"}
+        self.conn.execute(
+            f"UPDATE {table} SET {', '.join(f'{k} = ?' for k in columns)} WHERE uuid = ?",
+            [*columns.values(), record["uuid"]],
+        )
+        self._insert_history([(t, row) for t, row in history if row["uuid"] not in office])
+        return "newer"
+
+    def _insert_history(self, history: list[tuple[str, dict]]) -> None:
+        """Insert history rows, one statement per table, keeping their order within a table."""
+        by_table: dict[str, list[dict]] = {}
+        for table, row in history:
+            by_table.setdefault(table, []).append(self._checked(table, row))
+        for table, rows in by_table.items():
+            columns = list(rows[0])
+            if any(list(row) != columns for row in rows):
+                raise StoreError(f"{table} records do not all have the same fields")
+            self.conn.executemany(
+                f"INSERT INTO {table} ({', '.join(columns)}) VALUES "
+                f"({', '.join('?' for _ in columns)})",
+                [tuple(row.values()) for row in rows],
+            )

@@ -1,0 +1,180 @@
+"""Values of the Stakeline store without SQL: validation of what a person types, reduction of a
+visit's readings to elevations, and replay of append-only station versions.
+
+Used by :mod:`stakeline.store` (which holds all the SQL) and :mod:`stakeline.store.package`.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import uuid as uuidlib
+from datetime import UTC, date, datetime
+from typing import Any
+
+from stakeline.errors import SurveyError
+from stakeline.survey import reduction
+
+METHODS = ("line", "rod")
+"""Ways of reading the bed: level line and plumb, or level and rod."""
+
+TEXT_LIMIT = 10_000
+"""Longest note, name or reason accepted (characters)."""
+
+SECTION_FIELDS = (
+    "name",
+    "left_stake",
+    "right_stake",
+    "origin",
+    "benchmark_name",
+    "benchmark_elevation",
+    "benchmark_assumed",
+    "left_coordinates",
+    "right_coordinates",
+)
+VISIT_FIELDS = (
+    "date",
+    "crew",
+    "unit",
+    "method",
+    "line_left",
+    "line_right",
+    "line_check",
+    "stake_distance",
+    "backsight",
+    "notes",
+    "settings",
+    "planned_stations",
+)
+STATION_FIELDS = ("station", "reading", "code", "note")
+
+
+class StoreError(SurveyError):
+    """A store operation that cannot be done as asked (unknown record, bad value, foreign file)."""
+
+
+def now() -> str:
+    """The current time as ISO 8601 UTC with microseconds."""
+    return datetime.now(UTC).isoformat(timespec="microseconds")
+
+
+_RANDOM = {"pid": 0, "pool": b"", "at": 0}
+
+
+def new_uuid() -> str:
+    """A fresh random (version 4) UUID in text form.
+
+    Random bytes come from ``os.urandom`` 4 KiB at a time (one system call per 256 UUIDs); the
+    pool is refilled in a forked child so two processes never share it.
+    """
+    state = _RANDOM
+    if state["at"] + 16 > len(state["pool"]) or state["pid"] != os.getpid():
+        state.update(pid=os.getpid(), pool=os.urandom(4096), at=0)
+    at = state["at"]
+    state["at"] = at + 16
+    return str(uuidlib.UUID(bytes=state["pool"][at : at + 16], version=4))
+
+
+def number(value: Any, what: str, optional: bool = False) -> float | None:
+    """``value`` as a finite float (survey unit), or None when optional; else StoreError."""
+    if value is None and optional:
+        return None
+    if isinstance(value, bool):
+        raise StoreError(f"{what} must be a number, not {value!r}")
+    try:
+        result = float(value)
+    except (TypeError, ValueError):
+        raise StoreError(f"{what} must be a number, not {value!r}") from None
+    if not math.isfinite(result):
+        raise StoreError(f"{what} must be a finite number, not {value!r}")
+    return result
+
+
+def text(value: Any, what: str) -> str:
+    """``value`` as a string of at most TEXT_LIMIT characters; else StoreError."""
+    if value is None:
+        return ""
+    if not isinstance(value, str):
+        raise StoreError(f"{what} must be text, not {value!r}")
+    if len(value) > TEXT_LIMIT:
+        raise StoreError(f"{what} is longer than {TEXT_LIMIT} characters; shorten it")
+    return value
+
+
+def choice(value: Any, allowed: tuple[str, ...], what: str) -> str:
+    """``value`` if it is one of ``allowed``; else StoreError naming the choices."""
+    if value not in allowed:
+        raise StoreError(f"{what} must be one of {', '.join(allowed)}; got {value!r}")
+    return value
+
+
+def iso_date(value: Any) -> str:
+    """``value`` as an ISO calendar date (``2026-04-14``); else StoreError."""
+    try:
+        return date.fromisoformat(str(value)).isoformat()
+    except ValueError:
+        raise StoreError(f"date {value!r} is not a date like 2026-04-14") from None
+
+
+def coordinates(value: Any, what: str) -> tuple[float | None, float | None]:
+    """(lon, lat) in degrees, or (None, None); else StoreError."""
+    if value is None:
+        return None, None
+    try:
+        lon, lat = value
+    except (TypeError, ValueError):
+        raise StoreError(f"{what} must be (longitude, latitude) or empty") from None
+    lon, lat = number(lon, f"{what} longitude"), number(lat, f"{what} latitude")
+    if not (-180 <= lon <= 180 and -90 <= lat <= 90):
+        raise StoreError(f"{what} ({lon}, {lat}) is not a longitude/latitude in degrees")
+    return lon, lat
+
+
+def canonical_json(value: Any) -> str:
+    """Canonical JSON text (sorted keys, no spaces) so equal values give equal text."""
+    return json.dumps(value, sort_keys=True, separators=(",", ":"), allow_nan=False)
+
+
+def elevations(datum: dict, stations: list[float], readings: list[float]) -> list:
+    """Ground elevations (survey unit) of readings at stations, from the visit's ``datum``.
+
+    ``datum`` holds ``method``, ``line_left``, ``line_right``, ``stake_distance``, ``backsight``,
+    ``origin`` and ``benchmark_elevation``.  Line method: line - reading, the line straight
+    between the stakes when their heights differ and the stake distance is known, else their
+    mean.  Rod method: HI - foresight, HI = benchmark (assumed 100 when unknown) + backsight.
+    Elevations are None while the visit lacks line heights or a backsight.
+    """
+    if not readings:
+        return []
+    if datum["method"] == "rod":
+        if datum["backsight"] is None:
+            return [None] * len(readings)
+        benchmark = datum["benchmark_elevation"]
+        benchmark = reduction.ASSUMED_DATUM if benchmark is None else benchmark
+        return reduction.bed_from_rod(benchmark, datum["backsight"], readings).tolist()
+    left, right = datum["line_left"], datum["line_right"]
+    if left is None and right is None:
+        return [None] * len(readings)
+    left, right = (right, right) if left is None else (left, left if right is None else right)
+    distance = datum["stake_distance"]
+    if left == right or distance is None:
+        line = (left + right) / 2.0
+    else:
+        at_left, at_right = (0.0, distance) if datum["origin"] == "left" else (distance, 0.0)
+        line = reduction.line_elevation(stations, at_left, left, at_right, right)
+    return reduction.bed_from_line(readings, line).tolist()
+
+
+def replay(versions: list[dict]) -> tuple[dict[str, dict], dict[str, dict], set[str]]:
+    """(current version by station, first version by station, undone version uuids)."""
+    undone = {v["undoes"] for v in versions if v["action"] == "undo"}
+    first: dict[str, dict] = {}
+    current: dict[str, dict] = {}
+    for v in versions:
+        if v["action"] == "undo":
+            continue
+        first.setdefault(v["station_uuid"], v)
+        if v["uuid"] not in undone:
+            current[v["station_uuid"]] = v
+    return current, first, undone

@@ -1,0 +1,97 @@
+"""Stage-discharge (rating) table of a section under uniform flow, and its inverse.
+
+Lengths in the survey unit, areas in unit², discharge in unit³/s (see :mod:`stakeline.survey.hydraulics`).
+The table is computed exactly at each listed stage; between stages it is read by linear
+interpolation, and :func:`stage_for` refines an inverse reading by root-finding.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from stakeline.errors import SurveyError
+from stakeline.survey.geometry import Section
+from stakeline.survey.hydraulics import figure_unit, flow_table, stage_for_discharge
+
+RATING_COLUMNS = (
+    "stage",
+    "area",
+    "wetted_perimeter",
+    "top_width",
+    "hydraulic_radius",
+    "velocity",
+    "discharge",
+)
+"""Columns of a rating table, in print order."""
+
+MAX_ROWS = 100_000
+
+
+def rating_stages(
+    section: Section, step: float, start: float | None = None, stop: float | None = None
+) -> np.ndarray:
+    """Water levels every ``step`` from ``start`` (default the lowest bed) to ``stop`` inclusive.
+
+    ``stop`` defaults to the highest level the section holds; it is always included as the last row.
+    """
+    lo = section.lowest if start is None else float(start)
+    hi = section.highest_stage if stop is None else float(stop)
+    if not (math.isfinite(step) and step > 0):
+        raise SurveyError(f"the rating step must be a positive number, got {step!r}")
+    if not hi > lo:
+        raise SurveyError(f"the rating range is empty: from {lo:g} to {hi:g}")
+    count = int(math.floor((hi - lo) / step + 1e-9)) + 1
+    if count > MAX_ROWS:
+        raise SurveyError(f"{count} rows asked for; use a larger step (at most {MAX_ROWS} rows)")
+    stages = lo + step * np.arange(count)
+    if hi - stages[-1] > 1e-9 * max(1.0, abs(hi)):
+        stages = np.append(stages, hi)
+    return stages
+
+
+def rating_table(
+    section: Section, stages, n, slope: float, unit: str = "m", splits=None
+) -> dict[str, np.ndarray]:
+    """Rating table at ``stages``: a dict of arrays keyed by :data:`RATING_COLUMNS`.
+
+    ``n`` and ``splits`` as in :func:`stakeline.survey.hydraulics.flow_table` (one n, or one per subsection).
+    """
+    fig = flow_table(section, np.asarray(stages, dtype=float), n, slope, unit, splits)
+    return {name: np.asarray(fig[name], dtype=float) for name in RATING_COLUMNS}
+
+
+def column_heading(name: str, unit: str) -> str:
+    """Heading of a rating column with its unit, e.g. ``"discharge (m³/s)"``."""
+    return f"{name.replace('_', ' ')} ({figure_unit(name, unit)})"
+
+
+def discharge_from_table(table: dict, stage: float) -> float:
+    """Discharge read from the table at ``stage`` by linear interpolation (unit³/s)."""
+    h, q = table["stage"], table["discharge"]
+    if not h[0] <= stage <= h[-1]:
+        raise SurveyError(f"water level {stage:g} is outside the table ({h[0]:g} to {h[-1]:g})")
+    return float(np.interp(stage, h, q))
+
+
+def stage_from_table(table: dict, discharge: float) -> float:
+    """Lowest water level where the table reaches ``discharge``, by linear interpolation."""
+    h, q = table["stage"], table["discharge"]
+    above = np.flatnonzero(q >= discharge)
+    if not above.size or discharge <= 0:
+        raise SurveyError(
+            f"discharge {discharge:g} is outside the table (0 to {float(q.max()):g}); "
+            "extend the table or the survey"
+        )
+    i = int(above[0])
+    if i == 0:
+        return float(h[0])
+    t = (discharge - q[i - 1]) / (q[i] - q[i - 1])
+    return float(h[i - 1] + t * (h[i] - h[i - 1]))
+
+
+def stage_for(
+    section: Section, discharge: float, n, slope: float, unit: str = "m", splits=None
+) -> float:
+    """Exact inverse: the water level carrying ``discharge`` (root-finding, not table reading)."""
+    return stage_for_discharge(section, discharge, n, slope, unit, splits)
