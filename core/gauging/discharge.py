@@ -31,10 +31,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from stakeline.gauging.units import GaugingError, plain
+from stakeline.gauging.units import GaugingError, gauging_unit, plain
 from stakeline.gauging.vertical import normal_velocity
 from stakeline.survey.geometry import Section, water_strip
-from stakeline.survey.reduction import check_unit
 
 DISCHARGE_METHODS = ("midsection", "meansection")
 """Computations of the discharge from the verticals."""
@@ -98,7 +97,7 @@ class Discharge:
 
     def as_dict(self) -> dict:
         """JSON-ready dict: ``discharge``, ``area``, ``width``, ``mean_velocity``, ``method``,
-        ``unit``, ``verticals``, ``missing`` (stations) and ``panels`` (see :meth:`panels`)."""
+        ``unit``, ``verticals``, ``complete``, ``missing`` (stations) and ``panels`` (see :meth:`panels`)."""
         return {
             "discharge": self.discharge,
             "area": self.area,
@@ -107,6 +106,7 @@ class Discharge:
             "method": self.method,
             "unit": self.unit,
             "verticals": int(self.stations.size),
+            "complete": self.complete,
             "missing": [float(self.stations[i]) for i in self.missing],
             "panels": self.panels(),
         }
@@ -114,9 +114,9 @@ class Discharge:
 
 def _array(values, name: str, n: int | None = None, allow_nan: bool = False) -> np.ndarray:
     try:
-        arr = np.asarray(values, dtype=float)
+        arr = np.array(values, dtype=float)  # a copy: the result must not follow later edits
     except (TypeError, ValueError):
-        arr = np.asarray([np.nan if v is None or v == "" else v for v in values], dtype=float)
+        arr = np.array([np.nan if v is None or v == "" else v for v in values], dtype=float)
     if arr.ndim != 1:
         raise GaugingError(f"{name} must be a 1-D sequence, got shape {arr.shape}")
     if n is not None and arr.size != n:
@@ -151,7 +151,8 @@ def _verticals(stations, depths, velocities, angles):
             f"vertical {i + 1}: depth {d[i]:g} at station {x[i]:g} is negative", i, float(x[i])
         )
     if angles is not None:
-        v = normal_velocity(v, _array(angles, "angles", n, allow_nan=True))
+        angle = _array(angles, "angles", n, allow_nan=True)
+        v = normal_velocity(v, np.where(np.isnan(angle), 0.0, angle))
     return x, d, v
 
 
@@ -183,11 +184,11 @@ def velocity_area(
     ``stations`` (increasing) and ``depths`` in the survey ``unit``; ``velocities`` the mean
     velocity in each vertical (unit/s; NaN or None where not read yet); ``angles`` (degrees,
     optional) the angle of the flow to the normal of the section at each vertical, applied as
-    ``cos(angle)``; ``edge_factor`` estimates the velocity of a wet edge left unread as that
+    ``cos(angle)`` (NaN or None: 0); ``edge_factor`` estimates the velocity of a wet edge left unread as that
     share of its neighbour's.  Malformed input raises
     :class:`stakeline.gauging.units.GaugingError` naming the vertical.
     """
-    check_unit(unit)
+    gauging_unit(unit)  # refuses an unknown unit
     if method not in DISCHARGE_METHODS:
         raise GaugingError(f"discharge method {method!r}: use midsection or meansection")
     x, d, v = _verticals(stations, depths, velocities, angles)
@@ -202,6 +203,8 @@ def velocity_area(
     total = float(q.sum())
     area = float(np.dot(width, depth))
     percent = 100.0 * q / total if total != 0 else np.zeros_like(q)
+    for arr in (x, d, v, *panels[:-1], q, percent):
+        arr.flags.writeable = False
     return Discharge(
         method=method,
         unit=unit,

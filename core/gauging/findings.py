@@ -10,7 +10,7 @@ reversed   warn     a negative velocity (flow running upstream), in the vertical
 share      warn     a panel carrying over 10 % of the discharge; note over 5 % (USGS practice:
                     none over 10 %, ideally 5 %; Rantz 1982, WSP 2175; from memory)
 profile    warn     a 0.2/0.8 pair off the usual profile: v02/v08 outside 1 to 2 (USGS practice;
-                    see :data:`stakeline.gauging.vertical.PROFILE_RATIO`)
+                    see :data:`stakeline.gauging.vertical.PROFILE_RATIO`); note when 0.6 was read
 meter      warn     a velocity outside the meter's rated range
 verticals  warn     fewer verticals in the water than asked for (25-30 recommended; USGS
                     practice, Turnipseed & Sauer 2010, TM 3-A8; from memory)
@@ -230,11 +230,16 @@ def _profile(r: Discharge, pts: dict, cfg: GaugingSettings, u) -> list[Finding]:
             f"(v0.2/v0.8 = {_num(ratio[i])}; the usual profile gives {cfg.profile_low:g} to "
             f"{cfg.profile_high:g}, USGS practice)"
         )
+        three = "v06" in pts and not np.isnan(pts["v06"][i])
         todo = (
-            "read at 0.6 depth as well and use the three-point method; look for a rock, weed or "
+            "the 0.6-depth reading is in the mean (three-point method); look for a rock, weed or "
             "debris just upstream"
+            if three
+            else "read at 0.6 depth as well and use the three-point method; look for a rock, "
+            "weed or debris just upstream"
         )
-        out.append(Finding("profile", "warn", float(r.stations[i]), message, todo, i))
+        severity = "note" if three else "warn"
+        out.append(Finding("profile", severity, float(r.stations[i]), message, todo, i))
     return out
 
 

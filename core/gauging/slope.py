@@ -24,9 +24,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from stakeline.gauging.units import GaugingError
-from stakeline.survey.reduction import check_unit
-from stakeline.survey.uncertainty import DEFAULT_PRECISION
+from stakeline.gauging.units import GaugingError, gauging_unit
 
 COVERAGE = 2.0
 """Coverage factor of ``plus_minus`` (about 95 %)."""
@@ -104,7 +102,8 @@ def water_surface_slope(
     ``unit``; ``precision`` is the standard deviation of one levelled elevation (default the
     crew's reading precision for ``unit``: 5 mm or 0.02 ft).
     """
-    sigma = DEFAULT_PRECISION[check_unit(unit)][0] if precision is None else float(precision)
+    u = gauging_unit(unit)
+    sigma = u.reading_precision if precision is None else float(precision)
     if not (math.isfinite(sigma) and sigma >= 0):
         raise GaugingError(f"the levelling precision must be zero or positive, got {precision!r}")
     x, z = _points(distances, elevations)

@@ -20,6 +20,7 @@ from dataclasses import dataclass
 from stakeline.errors import SurveyError
 from stakeline.survey.hydraulics import MANNING_K
 from stakeline.survey.reduction import UNITS, check_unit
+from stakeline.survey.uncertainty import DEFAULT_PRECISION
 
 
 class GaugingError(SurveyError):
@@ -46,15 +47,19 @@ _ONE_POINT = {"m": 0.75, "ft": 2.5}
 class GaugingUnit:
     """Constants of a gauging in one survey length unit.
 
-    ``manning_k``: k of Manning's equation (1 for metres, 1.486 for feet); ``wading_limit``: the
-    depth x velocity (unit²/s) at which wading stops; ``one_point_depth``: the deepest vertical
-    (unit) for which one point at 0.6 depth is the suggested method; the rest are symbols.
+    ``metres``: metres per unit; ``manning_k``: k of Manning's equation (1 for metres, 1.486 for
+    feet); ``wading_limit``: the depth x velocity (unit²/s) at which wading stops;
+    ``one_point_depth``: the deepest vertical (unit) for which one point at 0.6 depth is the
+    suggested method; ``reading_precision``: the crew's usual standard deviation of one levelled
+    reading (unit; 5 mm, 0.02 ft); the rest are symbols.
     """
 
     name: str
+    metres: float
     manning_k: float
     wading_limit: float
     one_point_depth: float
+    reading_precision: float
     length: str
     area: str
     velocity: str
@@ -63,14 +68,20 @@ class GaugingUnit:
 
 
 def gauging_unit(unit: str) -> GaugingUnit:
-    """The :class:`GaugingUnit` of survey length unit ``unit`` (``"m"`` or ``"ft"``)."""
+    """The :class:`GaugingUnit` of survey length unit ``unit`` (``"m"`` or ``"ft"``).
+
+    Every module of the gauging package takes its unit constants from here (unknown units are
+    refused with the survey's own message).
+    """
     name = check_unit(unit)
     metres = UNITS[name]
     return GaugingUnit(
         name=name,
+        metres=metres,
         manning_k=MANNING_K[name],
         wading_limit=_WADING_FT * (UNITS["ft"] / metres) ** 2,
         one_point_depth=_ONE_POINT[name],
+        reading_precision=DEFAULT_PRECISION[name][0],
         length=name,
         area=f"{name}²",
         velocity=f"{name}/s",

@@ -36,7 +36,6 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 from stakeline.gauging.units import GaugingError, gauging_unit
-from stakeline.survey.reduction import UNITS, check_unit
 
 POINTS = ("surface", "v02", "v06", "v08", "bed")
 """Names of the point velocities, from the surface down."""
@@ -188,7 +187,7 @@ class MeterRating:
     highest: float | None = None
 
     def __post_init__(self):
-        check_unit(self.unit)
+        gauging_unit(self.unit)
         name = f"meter {self.serial!r}"
         for field in ("a", "b", "split", "a_high", "b_high", "lowest", "highest"):
             value = getattr(self, field)
@@ -231,7 +230,7 @@ class MeterRating:
         )
 
     def _factor(self, unit: str | None) -> float:
-        return 1.0 if unit is None else UNITS[self.unit] / UNITS[check_unit(unit)]
+        return 1.0 if unit is None else gauging_unit(self.unit).metres / gauging_unit(unit).metres
 
     def as_dict(self) -> dict:
         """Plain dict of every field."""

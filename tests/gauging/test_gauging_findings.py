@@ -125,6 +125,15 @@ def test_profile_rule():
     assert [f.index for f in found] == [5, 9]
     assert "0.8-depth velocity is the larger" in found[0].message
     assert "three-point" in found[0].suggestion
+    assert [f.severity for f in found] == ["warn", "warn"]
+    # With the 0.6-depth velocity read as well, the three-point mean is in use: a note.
+    v06 = np.full(b.size, np.nan)
+    v06[5] = 0.65
+    points = {"v02": v02, "v06": v06, "v08": v08}
+    found = [
+        f for f in gauging_findings(velocity_area(b, d, v), points=points) if f.kind == "profile"
+    ]
+    assert sorted((f.index, f.severity) for f in found) == [(5, "note"), (9, "warn")]
 
 
 def test_meter_range():

@@ -258,7 +258,7 @@ def test_midsection_and_meansection_agree_as_the_verticals_get_dense(width, dept
     # same integral ∫ v·d dx, so their difference shrinks as the verticals close up.
     def field(n):
         b = np.linspace(0.0, width, n)
-        shape = np.sin(np.pi * b / width) ** power
+        shape = np.clip(np.sin(np.pi * b / width), 0.0, None) ** power
         return b, depth * shape, speed * np.sqrt(shape)
 
     gaps = []
@@ -270,3 +270,14 @@ def test_midsection_and_meansection_agree_as_the_verticals_get_dense(width, dept
     assert gaps[2] < gaps[0] and gaps[2] < 0.01
     # And both approach the integral itself (the densest midsection sum as the reference).
     assert_allclose(mean, mid, rtol=0.01)
+
+
+def test_results_do_not_follow_later_edits():
+    b = np.array([0.0, 1.0, 2.0])
+    v = np.array([0.0, 0.5, 0.0])
+    r = velocity_area(b, [0, 1.0, 0], v, angles=[None, float("nan"), 0])
+    v[1] = 9.0  # the crew edits the entry; the result already given stays as it was
+    assert r.discharge == pytest.approx(0.5) and r.velocities[1] == 0.5
+    with pytest.raises(ValueError):
+        r.panel_discharge[1] = 0.0
+    assert r.as_dict()["complete"] is True
