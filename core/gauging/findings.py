@@ -82,24 +82,27 @@ class GaugingSettings:
         return cls(unit=unit, **values)
 
 
-def _settings(settings, unit: str) -> GaugingSettings:
+def _settings(settings, unit: str | None) -> GaugingSettings:
     if isinstance(settings, GaugingSettings):
-        if settings.unit != unit:
+        if unit is not None and settings.unit != unit:
             raise GaugingError(
                 f"the gauging is in {unit!r} but the settings are for {settings.unit!r}"
             )
         return settings
-    return GaugingSettings.for_unit(unit, **dict(settings or {}))
+    return GaugingSettings.for_unit(unit or "m", **dict(settings or {}))
 
 
 def _num(value: float, places: int = 2) -> str:
     return f"{float(value):.{places}f}"
 
 
-def wading_findings(stations, depths, velocities, settings=None, unit: str = "m") -> list[Finding]:
+def wading_findings(
+    stations, depths, velocities, settings=None, unit: str | None = None
+) -> list[Finding]:
     """``wading`` findings: verticals where depth x |velocity| reaches the limit (or comes near).
 
-    Cheap enough to call on every entered velocity; NaN velocities are skipped.
+    Stations and depths in ``unit`` (default the settings' unit, else metres), velocities in
+    unit/s.  Cheap enough to call on every entered velocity; NaN velocities are skipped.
     """
     cfg = _settings(settings, unit)
     u = gauging_unit(cfg.unit)

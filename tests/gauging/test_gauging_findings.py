@@ -46,6 +46,8 @@ def test_wading_limit_in_both_units():
     feet = wading_findings([4.0], [3.0], [3.4], unit="ft")
     assert kinds(feet) == [("wading", "warn")] and "10.20 ft²/s" in feet[0].message
     assert wading_findings([1.0], [2.0], [float("nan")]) == []
+    feet = GaugingSettings.for_unit("ft")
+    assert kinds(wading_findings([4.0], [3.0], [3.4], feet)) == [("wading", "warn")]
 
 
 def test_wading_counts_reversed_flow_too():
