@@ -1,67 +1,62 @@
 """The ``stakeline`` command: no arguments starts the touch app; subcommands do field and office work.
 
-Each group of subcommands lives in its own module with a ``register(subparsers)`` function, so the
-CLI stays a thin layer: parse, call one core function, print.  Errors a person can fix print one
-line to stderr and exit with code 2; no tracebacks.
+Built on click.  Each module below adds its commands to the group :data:`cli` with
+``@cli.command``; shared options are declared once in :mod:`stakeline.app.cli.options`.  The
+commands stay a thin layer: parse, call one core function, print.  Errors a person can fix print
+one line ``stakeline COMMAND: message`` to stderr and exit with code 2; usage errors print a short
+usage and one error line, also with code 2; never a traceback.  Kivy is imported only when the app
+starts.
 """
 
 from __future__ import annotations
 
-import argparse
 import importlib
 import os
 import sys
 
-from stakeline.errors import SurveyError
+import click
+from stakeline.app.cli.base import EXIT_BAD_INPUT, CommandError, cli
 
 COMMAND_MODULES = (
     "stakeline.app.cli.geometry",
     "stakeline.app.cli.checks",
     "stakeline.app.cli.store",
-    "stakeline.app.cli.office",
+    "stakeline.app.cli.flow",
+    "stakeline.app.cli.rating",
+    "stakeline.app.cli.compare",
+    "stakeline.app.cli.export",
+    "stakeline.app.cli.report",
 )
-"""Modules that add subcommands; each defines ``register(subparsers)``."""
+"""Modules that add commands to :data:`cli`, in the order ``stakeline --help`` lists them."""
 
-EXIT_BAD_INPUT = 2
+for _name in COMMAND_MODULES:
+    importlib.import_module(_name)
+
+__all__ = ["COMMAND_MODULES", "EXIT_BAD_INPUT", "CommandError", "cli", "main"]
 
 
-class CommandError(Exception):
-    """A one-line problem to report to the person at the terminal (exit code 2)."""
+def start_app() -> int:
+    """Start the touch app (imports Kivy)."""
+    # SDL's own clipboard: without it Kivy probes for xsel/xclip and logs a CRITICAL line on
+    # machines that lack them.  Must be set before Kivy is first imported.
+    os.environ.setdefault("KIVY_CLIPBOARD", "sdl2")
+    from stakeline.app.main import run_app
 
-
-def build_parser() -> argparse.ArgumentParser:
-    """The argument parser with every subcommand registered."""
-    parser = argparse.ArgumentParser(
-        prog="stakeline",
-        description="Stream cross-section surveys: field checks, store, office analysis. "
-        "With no command, starts the touch app.",
-    )
-    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
-    for name in COMMAND_MODULES:
-        importlib.import_module(name).register(sub)
-    return parser
+    return run_app()
 
 
 def main(argv: list[str] | None = None) -> int:
-    """Run the ``stakeline`` command line; returns the exit code."""
-    argv = sys.argv[1:] if argv is None else argv
+    """Run the ``stakeline`` command line on ``argv`` (default ``sys.argv[1:]``); returns the
+    exit code: 0 done, 1 some package rejected (``import``), 2 bad input."""
+    argv = sys.argv[1:] if argv is None else [str(a) for a in argv]
     if not argv:
-        # SDL's own clipboard: without it Kivy probes for xsel/xclip and logs a CRITICAL line on
-        # machines that lack them.  Must be set before Kivy is first imported.
-        os.environ.setdefault("KIVY_CLIPBOARD", "sdl2")
-        from stakeline.app.main import run_app
-
-        return run_app()
-    parser = build_parser()
-    args = parser.parse_args(argv)
-    if not getattr(args, "handler", None):
-        parser.print_help()
-        return EXIT_BAD_INPUT
+        return start_app()
     try:
-        result = args.handler(args)
-    except (SurveyError, CommandError) as exc:
-        print(f"stakeline {args.command}: {exc}", file=sys.stderr)
-        return EXIT_BAD_INPUT
-    except BrokenPipeError:
-        return 0
+        result = cli.main(args=argv, prog_name="stakeline", standalone_mode=False)
+    except click.ClickException as exc:
+        exc.show()
+        return exc.exit_code
+    except click.Abort:
+        click.echo("Aborted!", err=True)
+        return 1
     return 0 if result is None else int(result)

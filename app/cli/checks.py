@@ -12,6 +12,9 @@ import json
 import math
 from pathlib import Path
 
+import click
+from stakeline.app.cli.base import CommandError, cli
+from stakeline.app.cli.options import file_argument, json_option, option, stage_option
 from stakeline.checks import SEVERITIES, CheckSettings, review
 from stakeline.errors import SectionFileError
 from stakeline.files.section_csv import read_section_csv
@@ -20,32 +23,6 @@ CAUTION = (
     "Field checks only: they catch likely mistakes while the crew is on site; they are not a "
     "substitute for review of the figures by a licensed engineer."
 )
-
-
-def register(subparsers) -> None:
-    """Add ``check`` to the ``stakeline`` parser."""
-    p = subparsers.add_parser(
-        "check",
-        help="field checks of a section file: bad readings, gaps, missing water's edges",
-        description="Check the section in FILE.csv (columns station, elevation; optional code "
-        "and reading) for readings out of line, stations out of order or repeated, panels too "
-        "wide, too few stations in the water, unread water's edges and an overtopped end.",
-    )
-    p.add_argument("file", metavar="FILE.csv")
-    p.add_argument("--stage", type=float, metavar="S", help="water level (elevation)")
-    p.add_argument("--unit", choices=("m", "ft"), default="m", help="length unit of the file")
-    p.add_argument("--json", action="store_true", help="print the findings as a JSON list")
-    p.add_argument(
-        "--min-stations",
-        type=int,
-        metavar="N",
-        help="fewest stations wanted across the water (default 20, common practice)",
-    )
-    p.add_argument("--line-left", type=float, metavar="H", help="line height at the left stake")
-    p.add_argument("--line-right", type=float, metavar="H", help="line height at the right stake")
-    p.add_argument("--line-check", type=float, metavar="H", help="line height by the level check")
-    p.add_argument("--plumb-length", type=float, metavar="L", help="longest possible reading")
-    p.set_defaults(handler=run_check)
 
 
 def _reading(text: str, row: int) -> float | None:
@@ -87,40 +64,69 @@ def read_entered(path: str | Path) -> dict[str, list]:
     }
 
 
-def run_check(args) -> int:
+@cli.command(
+    "check",
+    short_help="field checks of a section file: bad readings, gaps, missing water's edges",
+    help="Check the section in FILE.csv (columns station, elevation; optional code "
+    "and reading) for readings out of line, stations out of order or repeated, panels too "
+    "wide, too few stations in the water, unread water's edges and an overtopped end.",
+)
+@file_argument()
+@stage_option()
+@option("--unit", type=click.Choice(["m", "ft"]), default="m", help="length unit of the file")
+@json_option("print the findings as a JSON list")
+@option(
+    "--min-stations",
+    type=int,
+    metavar="N",
+    help="fewest stations wanted across the water (default 20, common practice)",
+)
+@option("--line-left", type=float, metavar="H", help="line height at the left stake")
+@option("--line-right", type=float, metavar="H", help="line height at the right stake")
+@option("--line-check", type=float, metavar="H", help="line height by the level check")
+@option("--plumb-length", type=float, metavar="L", help="longest possible reading")  # fmt: skip
+def check(
+    file: str,
+    stage: float | None,
+    unit: str,
+    as_json: bool,
+    min_stations: int | None,
+    line_left: float | None,
+    line_right: float | None,
+    line_check: float | None,
+    plumb_length: float | None,
+) -> int:
     """Print the findings for the file (exit 0 with or without findings)."""
-    from stakeline.app.cli import CommandError
-
-    if args.min_stations is not None and args.min_stations < 1:
-        raise CommandError(f"--min-stations must be at least 1, got {args.min_stations}")
-    entered = read_entered(args.file)
-    overrides = {} if args.min_stations is None else {"min_wet_stations": args.min_stations}
+    if min_stations is not None and min_stations < 1:
+        raise CommandError(f"--min-stations must be at least 1, got {min_stations}")
+    entered = read_entered(file)
+    overrides = {} if min_stations is None else {"min_wet_stations": min_stations}
     meta = {
-        "unit": args.unit,
-        "line_left": args.line_left,
-        "line_right": args.line_right,
-        "line_check": args.line_check,
-        "plumb_length": args.plumb_length,
+        "unit": unit,
+        "line_left": line_left,
+        "line_right": line_right,
+        "line_check": line_check,
+        "plumb_length": plumb_length,
     }
-    settings = CheckSettings.for_unit(args.unit, **overrides)
-    findings = review(stage=args.stage, meta=meta, settings=settings, **entered)
-    if args.json:
+    settings = CheckSettings.for_unit(unit, **overrides)
+    findings = review(stage=stage, meta=meta, settings=settings, **entered)
+    if as_json:
         print(json.dumps([f.as_dict() for f in findings]))
         return 0
     if not findings:
-        print(f"{args.file}: no findings ({len(entered['stations'])} points checked)")
+        print(f"{file}: no findings ({len(entered['stations'])} points checked)")
     else:
         counts = ", ".join(
             f"{sum(f.severity == s for f in findings)} {s}"
             for s in SEVERITIES
             if any(f.severity == s for f in findings)
         )
-        print(f"{args.file}: {len(findings)} findings ({counts})")
+        print(f"{file}: {len(findings)} findings ({counts})")
     for f in findings:
-        where = "" if f.station is None else f" at {f.station:g} {args.unit}"
+        where = "" if f.station is None else f" at {f.station:g} {unit}"
         print(f"[{f.severity}] {f.kind}{where}: {f.message}")
         print(f"    -> {f.suggestion}")
-    if args.stage is None:
+    if stage is None:
         print("No --stage given: the checks that need the water level were not run.")
     print(CAUTION)
     return 0

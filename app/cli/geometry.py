@@ -7,6 +7,8 @@ import json
 import sys
 
 import numpy as np
+from stakeline.app.cli.base import CommandError, cli
+from stakeline.app.cli.options import file_argument, json_option, option, stage_option
 from stakeline.files.section_csv import read_section_csv
 from stakeline.survey.geometry import FIGURES, Section
 
@@ -26,43 +28,23 @@ def load_section(path: str) -> Section:
     return Section(rows.stations, rows.elevations)
 
 
-def register(subparsers) -> None:
-    """Add ``section`` and ``table`` to the ``stakeline`` parser."""
-    p = subparsers.add_parser(
-        "section",
-        help="wetted area, perimeter, top width and hydraulic radius at one water level",
-        description="Figures of the section in FILE.csv (columns station, elevation; one length "
-        "unit) at water level S, in the file's unit.",
-    )
-    p.add_argument("file", metavar="FILE.csv")
-    p.add_argument(
-        "--stage", type=float, required=True, metavar="S", help="water level (elevation)"
-    )
-    p.add_argument("--unit", default="", help="unit label to print (e.g. m or ft); default none")
-    p.add_argument("--json", action="store_true", help="print a JSON object")
-    p.set_defaults(handler=run_section)
-
-    t = subparsers.add_parser(
-        "table",
-        help="figures over a range of water levels",
-        description="Figures of the section in FILE.csv for water levels A, A+C, ... up to B.",
-    )
-    t.add_argument("file", metavar="FILE.csv")
-    t.add_argument("--from", dest="start", type=float, required=True, metavar="A")
-    t.add_argument("--to", dest="stop", type=float, required=True, metavar="B")
-    t.add_argument("--step", type=float, required=True, metavar="C")
-    t.add_argument("--csv", action="store_true", help="print CSV instead of a table")
-    t.set_defaults(handler=run_table)
-
-
-def run_section(args) -> int:
+@cli.command(
+    "section",
+    short_help="wetted area, perimeter, top width and hydraulic radius at one water level",
+    help="Figures of the section in FILE.csv (columns station, elevation; one length "
+    "unit) at water level S, in the file's unit.",
+)
+@file_argument()
+@stage_option(required=True)
+@option("--unit", default="", help="unit label to print (e.g. m or ft); default none")
+@json_option("print a JSON object")
+def section(file: str, stage: float, unit: str, as_json: bool) -> int:
     """Print the figures of one water level."""
-    water = load_section(args.file).at(args.stage)
-    if args.json:
+    water = load_section(file).at(stage)
+    if as_json:
         print(json.dumps(water.as_dict()))
         return 0
-    unit = args.unit
-    print(f"water level {args.stage:g} {unit}".rstrip())
+    print(f"water level {stage:g} {unit}".rstrip())
     for name in FIGURES:
         label, power = LABELS[name]
         suffix = f" {unit}{power}" if unit else (" (unit²)" if power else "")
@@ -74,8 +56,6 @@ def run_section(args) -> int:
 
 def stage_range(start: float, stop: float, step: float) -> np.ndarray:
     """Water levels from ``start`` to ``stop`` inclusive every ``step`` (survey unit)."""
-    from stakeline.app.cli import CommandError
-
     if not step > 0:
         raise CommandError(f"--step must be positive, got {step:g}")
     if stop < start:
@@ -86,19 +66,29 @@ def stage_range(start: float, stop: float, step: float) -> np.ndarray:
     return start + step * np.arange(count)
 
 
-def run_table(args) -> int:
+@cli.command(
+    "table",
+    short_help="figures over a range of water levels",
+    help="Figures of the section in FILE.csv for water levels A, A+C, ... up to B.",
+)
+@file_argument()
+@option("--from", "start", type=float, required=True, metavar="A", help="lowest water level")
+@option("--to", "stop", type=float, required=True, metavar="B", help="highest water level")
+@option("--step", type=float, required=True, metavar="C", help="water level step")
+@option("--csv", "as_csv", is_flag=True, help="print CSV instead of a table")
+def table(file: str, start: float, stop: float, step: float, as_csv: bool) -> int:
     """Print the figures for a range of water levels."""
-    section = load_section(args.file)
-    stages = stage_range(args.start, args.stop, args.step)
-    table = section.table(stages)
-    if args.csv:
+    section = load_section(file)
+    stages = stage_range(start, stop, step)
+    figures = section.table(stages)
+    if as_csv:
         writer = csv.writer(sys.stdout, lineterminator="\n")
         writer.writerow(["stage", *FIGURES])
         for i, stage in enumerate(stages):
-            writer.writerow([f"{stage:.6g}", *(f"{table[n][i]:.6g}" for n in FIGURES)])
+            writer.writerow([f"{stage:.6g}", *(f"{figures[n][i]:.6g}" for n in FIGURES)])
         return 0
     heads = ["stage", "area", "perimeter", "top width", "hyd radius", "hyd depth", "max depth"]
     print("  ".join(f"{h:>10}" for h in heads))
     for i, stage in enumerate(stages):
-        print("  ".join(f"{v:10.4f}" for v in [stage, *(table[n][i] for n in FIGURES)]))
+        print("  ".join(f"{v:10.4f}" for v in [stage, *(figures[n][i] for n in FIGURES)]))
     return 0

@@ -4,15 +4,13 @@ the outbox and says where."""
 
 from __future__ import annotations
 
-import os
-
-from kivy.lang import Builder
 from kivy.properties import BooleanProperty, ListProperty, NumericProperty, StringProperty
 from kivy.uix.behaviors import ButtonBehavior
 from kivy.uix.boxlayout import BoxLayout
+from stakeline.app import kv
 from stakeline.app.screens.base import BaseScreen
 
-Builder.load_file(os.path.join(os.path.dirname(__file__), "checks.kv"))
+kv.load("screens/checks.kv")
 
 SEVERITY_WORDS = {"block": "MUST FIX", "warn": "LOOK AT", "note": "NOTE"}
 

@@ -8,11 +8,9 @@ worker thread; this screen only shows them.
 
 from __future__ import annotations
 
-import os
-
-from kivy.lang import Builder
 from kivy.properties import BooleanProperty, DictProperty, StringProperty
 from kivy.uix.boxlayout import BoxLayout
+from stakeline.app import kv
 from stakeline.app.screens.base import KeypadScreen
 from stakeline.app.service import ServiceError
 from stakeline.app.widgets.common import Caption, Chip
@@ -32,7 +30,7 @@ class RoughnessChip(Chip):
     key = StringProperty("")
 
 
-Builder.load_file(os.path.join(os.path.dirname(__file__), "detail.kv"))
+kv.load("screens/detail.kv")
 
 
 def value_text(row: dict, decimals: int = 3) -> str:

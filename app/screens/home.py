@@ -3,11 +3,9 @@ create a new section, open the settings."""
 
 from __future__ import annotations
 
-import os
-
-from kivy.lang import Builder
 from kivy.properties import StringProperty
 from kivy.uix.boxlayout import BoxLayout
+from stakeline.app import kv
 from stakeline.app.screens.base import BaseScreen
 
 
@@ -27,7 +25,7 @@ class SectionRow(BoxLayout):
         """Default handler: nothing (the home screen opens the office figures)."""
 
 
-Builder.load_file(os.path.join(os.path.dirname(__file__), "home.kv"))
+kv.load("screens/home.kv")
 
 
 class HomeScreen(BaseScreen):

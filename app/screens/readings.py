@@ -8,11 +8,9 @@ readings so far are all on this screen; flagged readings are marked as the check
 
 from __future__ import annotations
 
-import os
 from datetime import datetime
 
 from kivy.factory import Factory
-from kivy.lang import Builder
 from kivy.properties import (
     BooleanProperty,
     DictProperty,
@@ -24,12 +22,12 @@ from kivy.properties import (
 from kivy.uix.behaviors import ButtonBehavior
 from kivy.uix.boxlayout import BoxLayout
 from kivy.uix.popup import Popup
-from stakeline.app import theme
+from stakeline.app import kv, theme
 from stakeline.app.screens.base import KeypadScreen
 from stakeline.app.service import FEATURE_CODES
 from stakeline.app.widgets import section_view  # noqa: F401  (registers SectionView for the .kv)
 
-Builder.load_file(os.path.join(os.path.dirname(__file__), "readings.kv"))
+kv.load("screens/readings.kv")
 
 CODE_NAMES = dict(FEATURE_CODES)
 

@@ -3,16 +3,13 @@ dragged, its wetted figures, the wading-safety caution and the field-estimate no
 
 from __future__ import annotations
 
-import os
-
-from kivy.lang import Builder
 from kivy.properties import DictProperty, ObjectProperty, StringProperty
-from stakeline.app import theme
+from stakeline.app import kv, theme
 from stakeline.app.screens.base import KeypadScreen
 from stakeline.app.service import FIGURE_NAMES, parse_number
 from stakeline.app.widgets import section_view  # noqa: F401  (registers SectionView for the .kv)
 
-Builder.load_file(os.path.join(os.path.dirname(__file__), "section.kv"))
+kv.load("screens/section.kv")
 
 AREA_FIGURES = {"area"}
 

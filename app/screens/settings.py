@@ -4,13 +4,11 @@ tolerances and the outbox folder."""
 
 from __future__ import annotations
 
-import os
-
-from kivy.lang import Builder
 from kivy.properties import ObjectProperty, StringProperty
+from stakeline.app import kv
 from stakeline.app.screens.base import BaseScreen
 
-Builder.load_file(os.path.join(os.path.dirname(__file__), "settings.kv"))
+kv.load("screens/settings.kv")
 
 PRECISIONS = {"m": (0.001, 0.005, 0.01), "ft": (0.01, 0.02, 0.05)}
 LINE_TOLERANCES = {"m": (0.005, 0.01, 0.02), "ft": (0.02, 0.03, 0.05)}

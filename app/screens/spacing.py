@@ -3,15 +3,13 @@ station list); stations can be added or removed one by one for variable spacing.
 
 from __future__ import annotations
 
-import os
-
-from kivy.lang import Builder
 from kivy.properties import ListProperty, NumericProperty, StringProperty
+from stakeline.app import kv
 from stakeline.app.screens.base import KeypadScreen, field_number, show_number
 from stakeline.app.service import ServiceError, uniform_stations
 from stakeline.app.widgets.common import Chip
 
-Builder.load_file(os.path.join(os.path.dirname(__file__), "spacing.kv"))
+kv.load("screens/spacing.kv")
 
 
 class SpacingScreen(KeypadScreen):

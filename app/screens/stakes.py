@@ -3,15 +3,13 @@ distance between the stakes and optional stake coordinates."""
 
 from __future__ import annotations
 
-import os
-
-from kivy.lang import Builder
 from kivy.properties import StringProperty
+from stakeline.app import kv
 from stakeline.app.screens.base import KeypadScreen, field_number, show_number
 from stakeline.app.service import ServiceError
 from stakeline.survey.reduction import ASSUMED_DATUM
 
-Builder.load_file(os.path.join(os.path.dirname(__file__), "stakes.kv"))
+kv.load("screens/stakes.kv")
 
 NUMBER_FIELDS = (
     "benchmark_elevation",

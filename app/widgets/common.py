@@ -5,17 +5,15 @@ Their looks live in ``common.kv`` beside this file; sizes and colours come from 
 
 from __future__ import annotations
 
-import os
-
-from kivy.lang import Builder
 from kivy.properties import BooleanProperty, ObjectProperty, OptionProperty, StringProperty
 from kivy.uix.behaviors import ButtonBehavior
 from kivy.uix.boxlayout import BoxLayout
 from kivy.uix.button import Button
 from kivy.uix.label import Label
 from kivy.uix.togglebutton import ToggleButton
+from stakeline.app import kv
 
-Builder.load_file(os.path.join(os.path.dirname(__file__), "common.kv"))
+kv.load("widgets/common.kv")
 
 
 class BigButton(Button):

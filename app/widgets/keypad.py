@@ -7,14 +7,12 @@ key to the same actions so screens can forward ``Window.on_key_down`` to :meth:`
 
 from __future__ import annotations
 
-import os
-
-from kivy.lang import Builder
 from kivy.properties import BooleanProperty, NumericProperty, StringProperty
 from kivy.uix.boxlayout import BoxLayout
+from stakeline.app import kv
 from stakeline.app.widgets import common  # noqa: F401  (registers BigButton, used by keypad.kv)
 
-Builder.load_file(os.path.join(os.path.dirname(__file__), "keypad.kv"))
+kv.load("widgets/keypad.kv")
 
 MAX_CHARACTERS = 10
 """Longest number the keypad accepts (sign, digits and point)."""

@@ -312,20 +312,22 @@ def _packed_records_sha(path: Path) -> str | None:
         return None
 
 
-def pack_visits(store, outbox: str | os.PathLike) -> list[dict]:
+def pack_visits(
+    store, outbox: str | os.PathLike, progress: Callable[[int, int], None] | None = None
+) -> list[dict]:
     """Write a package for every finished visit of ``store`` into the folder ``outbox``.
 
     Returns one dict per visit: {visit, path, status} with status ``written`` or ``unchanged``
-    (the outbox already holds a package with the same records).
+    (the outbox already holds a package with the same records).  ``progress(done, total)`` is
+    called after each package.
     """
     folder = Path(outbox)
     if folder.exists() and not folder.is_dir():
         raise PackageError(f"outbox {folder} is a file, not a folder")
     folder.mkdir(parents=True, exist_ok=True)
     results = []
-    for visit in store.visits():
-        if not visit["finished"]:
-            continue
+    finished = [visit for visit in store.visits() if visit["finished"]]
+    for visit in finished:
         records = store.visit_records(visit["uuid"])
         path = folder / package_name(records)
         status = "unchanged"
@@ -333,6 +335,8 @@ def pack_visits(store, outbox: str | os.PathLike) -> list[dict]:
             write_atomic(path, build_package(records, store.device_id, now()))
             status = "written"
         results.append({"visit": visit["uuid"], "path": str(path), "status": status})
+        if progress is not None:
+            progress(len(results), len(finished))
     return results
 
 
@@ -376,16 +380,25 @@ def import_file(store, path: str | os.PathLike) -> dict:
     return {**out, **result}
 
 
-def import_files(store, paths: Iterable[str | os.PathLike], batch: int = 200) -> list[dict]:
+def import_files(
+    store,
+    paths: Iterable[str | os.PathLike],
+    batch: int = 200,
+    progress: Callable[[int, int], None] | None = None,
+) -> list[dict]:
     """Import package files (folders expand to their packages); one :func:`import_file` dict
     per file, in order.
 
     Each file is atomic on its own (a savepoint: a rejected file leaves no trace); up to
     ``batch`` files share one durable commit, so the office waits for the disk once per batch.
+    ``progress(done, total)`` is called after each file.
     """
     files = expand_paths(paths)
     results: list[dict] = []
     for start in range(0, len(files), batch):
         with store.transaction():
-            results.extend(import_file(store, path) for path in files[start : start + batch])
+            for path in files[start : start + batch]:
+                results.append(import_file(store, path))
+                if progress is not None:
+                    progress(len(results), len(files))
     return results

@@ -308,4 +308,4 @@ class Section:
         first = max(int(wet[0]) - 1, 0)
         last = min(int(wet[-1]) + 1, x.size - 1)
         depth = h - z[first : last + 1]
-        return float(np.trapezoid(depth, x[first : last + 1]))
+        return float(np.sum(np.diff(x[first : last + 1]) * (depth[1:] + depth[:-1]) / 2))

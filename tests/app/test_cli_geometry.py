@@ -8,13 +8,14 @@ import json
 import subprocess
 import sys
 
+import click
 import pytest
 from stakeline.survey.geometry import FIGURES, Section
 
 
 def stakeline(*args):
     return subprocess.run(
-        [sys.executable, "-m", "app", *map(str, args)], capture_output=True, text=True, timeout=60
+        [sys.executable, "-m", "stakeline", *map(str, args)], capture_output=True, text=True, timeout=60
     )
 
 
@@ -77,11 +78,8 @@ def test_table_rejects_a_bad_step(trapezoid_csv):
 
 
 def test_every_command_has_help_text():
-    from stakeline.app.cli import build_parser
+    from stakeline.app.cli import cli
 
-    parser = build_parser()
-    actions = [a for a in parser._actions if a.dest == "command"]
-    for name, choice in actions[0].choices.items():
-        assert choice.description or choice.format_help(), name
-    for action in actions[0]._choices_actions:
-        assert action.help, action.dest
+    for name, command in cli.commands.items():
+        assert command.help and command.short_help, name
+        assert command.get_help(click.Context(command, info_name=name)), name

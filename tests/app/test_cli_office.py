@@ -7,8 +7,9 @@ import math
 import subprocess
 import sys
 
+import click
 import pytest
-from stakeline.app.cli import build_parser, main
+from stakeline.app.cli import cli, main
 from stakeline.files.section_csv import read_section_csv
 from stakeline.store import Store
 
@@ -132,7 +133,7 @@ def test_flow_overtopped_and_bad_file(capsys, chow_trapezoid, tmp_path):
 
 def test_bad_input_in_a_real_process_has_no_traceback(tmp_path):
     result = subprocess.run(
-        [sys.executable, "-m", "app", "flow", str(tmp_path / "missing.csv"), "--stage", "1", "--n", "0.03", "--slope", "0.001"],
+        [sys.executable, "-m", "stakeline", "flow", str(tmp_path / "missing.csv"), "--stage", "1", "--n", "0.03", "--slope", "0.001"],
         capture_output=True, text=True, timeout=120,
     )  # fmt: skip
     assert result.returncode == 2
@@ -318,12 +319,10 @@ def test_roughness_table(capsys):
 
 
 def test_every_office_command_has_help():
-    parser = build_parser()
-    sub = next(a for a in parser._actions if a.dest == "command")
-    helps = {c.dest: c.help for c in sub._choices_actions}
     for name in OFFICE_COMMANDS:
-        assert helps.get(name), name
-        assert sub.choices[name].format_help()
+        command = cli.commands[name]
+        assert command.short_help, name
+        assert command.get_help(click.Context(command, info_name=name))
 
 
 def test_flow_compound_split_at_coded_bank_tops(capsys, tmp_path):

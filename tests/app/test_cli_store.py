@@ -9,8 +9,9 @@ import subprocess
 import sys
 from pathlib import Path
 
+import click
 import pytest
-from stakeline.app.cli import build_parser, main
+from stakeline.app.cli import cli, main
 from stakeline.app.cli import store as cli_store
 from stakeline.store import Store
 
@@ -24,17 +25,14 @@ def _run(capsys, *argv) -> tuple[int, str, str]:
 
 
 def test_every_store_command_has_help():
-    parser = build_parser()
-    commands = parser._subparsers._group_actions[0]
-    helps = {a.dest: a.help for a in commands._choices_actions}
     for name in ("pack", "import", "demo", "visits", "conflicts", "resolve"):
-        assert helps.get(name), f"{name} has no help line"
-        sub = commands.choices[name]
-        assert sub.description
-        for action in sub._actions:
-            if action.dest not in ("help",):
-                assert action.help, f"{name} {action.dest} has no help"
-    assert cli_store.register.__doc__
+        command = cli.commands[name]
+        assert command.short_help, f"{name} has no help line"
+        assert command.help
+        for param in command.params:
+            described = param.help if isinstance(param, click.Option) else param.description
+            assert described, f"{name} {param.name} has no help"
+    assert cli_store.__doc__
 
 
 def test_demo_then_visits_json(tmp_path, capsys):
@@ -133,12 +131,12 @@ def test_conflict_exits_1(tmp_path, capsys):
 
 
 def test_real_command_process(tmp_path):
-    # The whole path a person uses: a separate `python -m app` process per command.
+    # The whole path a person uses: a separate `python -m stakeline` process per command.
     env = {**os.environ, "PYTHONPATH": str(ROOT)}
 
     def run(*argv):
         return subprocess.run(
-            [sys.executable, "-m", "app", *map(str, argv)],
+            [sys.executable, "-m", "stakeline", *map(str, argv)],
             capture_output=True, text=True, cwd=ROOT, env=env, timeout=120,
         )  # fmt: skip
 

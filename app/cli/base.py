@@ -1,0 +1,128 @@
+"""The ``stakeline`` click group, its command class and the one-line error policy.
+
+Every command module decorates its commands with ``@cli.command(...)``; this module holds what
+they share: errors a person can fix become one line ``stakeline COMMAND: message`` on stderr with
+exit code 2, options may be abbreviated to any unique start (as the command line always allowed),
+and options of one concern (roughness, energy slope) are listed under their own heading in --help.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import click
+from stakeline.errors import SurveyError
+
+EXIT_BAD_INPUT = 2
+"""Exit code of bad input: a usage error, a malformed file, a value out of range."""
+
+CONTEXT = {"help_option_names": ["-h", "--help"], "max_content_width": 100}
+
+
+class CommandError(Exception):
+    """A one-line problem to report to the person at the terminal (exit code 2)."""
+
+
+class OneLineError(click.ClickException):
+    """A :class:`SurveyError` or :class:`CommandError`, shown as ``stakeline COMMAND: message``."""
+
+    exit_code = EXIT_BAD_INPUT
+
+    def show(self, file=None) -> None:
+        """Print the one line (no "Error:" prefix, no usage) to stderr."""
+        click.echo(self.message, err=True)
+
+
+class GroupedOption(click.Option):
+    """An option listed in --help under ``group`` (e.g. "Roughness (Manning's n)")."""
+
+    def __init__(self, *args, group: str | None = None, **kwargs):
+        super().__init__(*args, **kwargs)
+        self.group = group
+
+
+class DescribedArgument(click.Argument):
+    """A positional argument listed in --help with a one-line ``description``."""
+
+    def __init__(self, *args, description: str = "", **kwargs):
+        super().__init__(*args, **kwargs)
+        self.description = description
+
+
+def expand_abbreviations(args: Sequence[str], names: Sequence[str]) -> list[str]:
+    """``args`` with each long option written as a unique start of its name spelled out.
+
+    >>> expand_abbreviations(["--sta", "3", "--s", "--j=1", "--", "--sta"], ["--stage", "--step", "--json"])
+    ['--stage', '3', '--s', '--json=1', '--', '--sta']
+    """
+    out: list[str] = []
+    for i, arg in enumerate(args):
+        if arg == "--":
+            out.extend(args[i:])
+            break
+        name, equals, value = arg.partition("=")
+        if name.startswith("--") and len(name) > 2 and name not in names:
+            found = [n for n in names if n.startswith(name)]
+            if len(found) == 1:
+                arg = found[0] + equals + value
+        out.append(arg)
+    return out
+
+
+class StakelineCommand(click.Command):
+    """A subcommand: one-line errors, abbreviated options, grouped option help."""
+
+    def __init__(self, *args, **kwargs):
+        kwargs.setdefault("context_settings", dict(CONTEXT))
+        super().__init__(*args, **kwargs)
+
+    def parse_args(self, ctx: click.Context, args: list[str]) -> list[str]:
+        """Parse ``args`` after spelling out abbreviated long options."""
+        names = [o for p in self.get_params(ctx) for o in (*p.opts, *p.secondary_opts)]
+        longs = [n for n in names if n.startswith("--")]
+        return super().parse_args(ctx, expand_abbreviations(args, longs))
+
+    def invoke(self, ctx: click.Context):
+        """Run the command; input errors become one line on stderr and exit code 2."""
+        try:
+            return super().invoke(ctx)
+        except (SurveyError, CommandError) as exc:
+            raise OneLineError(f"stakeline {ctx.info_name}: {exc}") from None
+        except BrokenPipeError:  # the reader (head, less) went away: nothing more to say
+            return 0
+
+    def format_options(self, ctx: click.Context, formatter: click.HelpFormatter) -> None:
+        """List the arguments, then the options, those of one group under the group's heading."""
+        sections: dict[str, list[tuple[str, str]]] = {"Arguments": [], "Options": []}
+        for param in self.get_params(ctx):
+            if isinstance(param, click.Argument):
+                described = getattr(param, "description", "")
+                sections["Arguments"].append((param.human_readable_name, described))
+                continue
+            record = param.get_help_record(ctx)
+            if record is not None:
+                sections.setdefault(getattr(param, "group", None) or "Options", []).append(record)
+        for title, rows in sections.items():
+            if rows:
+                with formatter.section(title):
+                    formatter.write_dl(rows)
+
+
+class StakelineGroup(click.Group):
+    """The ``stakeline`` group: commands listed in the order they were added."""
+
+    command_class = StakelineCommand
+
+    def list_commands(self, ctx: click.Context) -> list[str]:
+        """Command names in the order the modules add them (field work first, office last)."""
+        return list(self.commands)
+
+
+@click.group(
+    cls=StakelineGroup,
+    context_settings=CONTEXT,
+    help="Stream cross-section surveys: field checks, store, office analysis. "
+    "With no command, starts the touch app.",
+)
+def cli() -> None:
+    """The ``stakeline`` command group (``stakeline --help`` lists every command)."""
