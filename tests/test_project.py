@@ -38,10 +38,27 @@ def test_layout_and_metadata():
         assert (ROOT / name).exists(), name
     for name in ("assets", "demo_data", "bench"):
         assert (ROOT / name).is_dir(), name
-    meta = tomllib.loads((ROOT / "pyproject.toml").read_text())["project"]
+    project = tomllib.loads((ROOT / "pyproject.toml").read_text())
+    meta = project["project"]
     assert meta["name"] == "stakeline"
     assert meta["scripts"]["stakeline"] == "stakeline.app.cli:main"
     assert meta["requires-python"] == ">=3.11"
     deps = " ".join(meta["dependencies"])
-    for dep in ("kivy", "numpy", "shapely", "sqlite-utils"):
+    for dep in ("kivy", "numpy", "sqlite-utils", "matplotlib", "click"):
         assert dep in deps
+    # shapely is the tests' independent reference only; import-linter runs with the tests.
+    assert "shapely" not in deps
+    test_extra = " ".join(meta["optional-dependencies"]["test"])
+    assert "shapely" in test_extra and "import-linter" in test_extra
+    # One import package: core/ is `stakeline`, app/ is `stakeline.app`; nothing named app or
+    # core is installed, and the demo data and the .kv layouts travel in the wheel.
+    setup = project["tool"]["setuptools"]
+    assert setup["package-dir"] == {
+        "stakeline": "core",
+        "stakeline.app": "app",
+        "stakeline.demo_data": "demo_data",
+    }
+    assert all(name == "stakeline" or name.startswith("stakeline.") for name in setup["packages"])
+    assert {"stakeline.app.screens", "stakeline.app.widgets"} <= set(setup["package-data"])
+    assert "*.kv" in setup["package-data"]["stakeline.app.screens"]
+    assert "*.csv" in setup["package-data"]["stakeline.demo_data"]

@@ -18,7 +18,10 @@ KEYS = {"kind", "severity", "station", "message", "suggestion"}
 
 def stakeline(*args):
     return subprocess.run(
-        [sys.executable, "-m", "stakeline", *map(str, args)], capture_output=True, text=True, timeout=60
+        [sys.executable, "-m", "stakeline", *map(str, args)],
+        capture_output=True,
+        text=True,
+        timeout=60,
     )
 
 

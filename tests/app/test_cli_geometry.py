@@ -15,7 +15,10 @@ from stakeline.survey.geometry import FIGURES, Section
 
 def stakeline(*args):
     return subprocess.run(
-        [sys.executable, "-m", "stakeline", *map(str, args)], capture_output=True, text=True, timeout=60
+        [sys.executable, "-m", "stakeline", *map(str, args)],
+        capture_output=True,
+        text=True,
+        timeout=60,
     )
 
 

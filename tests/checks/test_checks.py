@@ -3,8 +3,6 @@
 from __future__ import annotations
 
 import math
-import subprocess
-import sys
 
 import numpy as np
 import pytest
@@ -445,16 +443,6 @@ def test_units_in_messages_feet():
     i = middle_bed_station(s)
     found = loud(run(with_point_error(s, i, 0.3 * s.channel_depth)))
     assert found and found[0].message.count(" ft") >= 2 and " m " not in found[0].message
-
-
-def test_checks_import_numpy_only():
-    code = (
-        "import sys, stakeline.checks; "
-        "bad = [m for m in ('kivy', 'sqlite_utils', 'shapely', 'sqlite3') if m in sys.modules]; "
-        "print(bad)"
-    )
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
-    assert out.stdout.strip() == "[]"
 
 
 finite = st.floats(-50, 50, allow_nan=False, allow_infinity=False)

@@ -3,8 +3,6 @@
 from __future__ import annotations
 
 import math
-import subprocess
-import sys
 
 import numpy as np
 import pytest
@@ -280,13 +278,3 @@ def test_hand_estimate_is_the_trapezoidal_rule_with_negative_end_depths():
     assert_allclose(section.hand_estimate(1.0), expected)
     # The exact area differs: the end panels hold only the wet triangles.
     assert_allclose(section.at(1.0).area, 0.5 * 0.5 / 2 * 2 + (0.5 + 1.0) / 2 * 2)
-
-
-def test_importing_geometry_pulls_in_no_ui_store_or_shapely():
-    code = (
-        "import sys, stakeline.survey.geometry; "
-        "bad = [m for m in ('kivy', 'sqlite_utils', 'shapely', 'sqlite3') if m in sys.modules]; "
-        "print(','.join(bad))"
-    )
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
-    assert out.stdout.strip() == ""

@@ -322,23 +322,6 @@ def test_trapezoid_discharge_rises_with_stage(b, z, n, s):
     assert np.all(np.diff(q) > 0)
 
 
-def test_analysis_modules_stay_light():
-    # House rule: the analysis core imports numpy only (no Kivy, SQL, shapely or matplotlib).
-    import subprocess
-    import sys
-
-    code = (
-        "import sys, stakeline.survey.hydraulics, stakeline.survey.rating, stakeline.survey.compare, stakeline.survey.uncertainty, stakeline.survey.roughness, "
-        "stakeline.files.exports; print(sorted(m for m in ('kivy', 'sqlite_utils', 'sqlite3', 'shapely', "
-        "'matplotlib') if m in sys.modules))"
-    )
-    root = __import__("pathlib").Path(__file__).resolve().parents[2]
-    out = subprocess.run(
-        [sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=root
-    )
-    assert out.stdout.strip() == "[]"
-
-
 def test_bank_tops_at_a_vertical_face_next_to_the_deepest_point():
     # two_stage(): the deepest point is the foot of the left wall at station 20, where the left
     # bank top also stands; the split must still be 20 (left) and 30 (right).
