@@ -8,20 +8,17 @@ Prints, as speed-up ratios (baseline time / Stakeline time, higher is better):
 2. the same against a plain vectorised pass over every segment for every stage (goal >= 20x);
 3. a single ``Section.at`` on a 200-station section against one shapely clip (goal >= 10x).
 Goals are checked and reported; the exit code is 1 if any is missed.
+
+Needs shapely, the independent reference: it is in the test extra (``pip install -e '.[test]'``),
+not a dependency of Stakeline itself.
 """
 
 from __future__ import annotations
 
-import sys
-from pathlib import Path
-
 import numpy as np
 from shapely.geometry import LineString, Polygon, box
-
-sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
-
-from stakeline.survey.geometry import Section  # noqa: E402
-from timing import best  # noqa: E402  (bench/timing.py)
+from stakeline.survey.geometry import Section
+from timing import best  # bench/timing.py
 
 
 def natural_section(n: int, seed: int = 7) -> tuple[np.ndarray, np.ndarray]:

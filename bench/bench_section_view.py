@@ -13,7 +13,6 @@ Run: ``.venv/bin/python bench/bench_section_view.py``
 from __future__ import annotations
 
 import os
-import sys
 import tempfile
 
 from timing import best  # bench/timing.py
@@ -45,7 +44,6 @@ def _timed(function, repeats: int = 7, number: int = 200) -> float:
 def main() -> int:
     """Print the update costs and their ratios to the bare Line baseline."""
     _headless()
-    sys.path.insert(0, os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
     import numpy as np
     from kivy.core.window import Window
     from kivy.graphics import Color, Line

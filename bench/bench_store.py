@@ -18,16 +18,13 @@ import argparse
 import random
 import sqlite3
 import statistics
-import sys
 import tempfile
 import time
 import uuid
 from pathlib import Path
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
-
-from stakeline.store import Store  # noqa: E402
-from stakeline.store.package import import_files, pack_visits  # noqa: E402
+from stakeline.store import Store
+from stakeline.store.package import import_files, pack_visits
 
 WRITES = 1500
 BLOCK = 50

@@ -62,3 +62,18 @@ def test_layout_and_metadata():
     assert {"stakeline.app.screens", "stakeline.app.widgets"} <= set(setup["package-data"])
     assert "*.kv" in setup["package-data"]["stakeline.app.screens"]
     assert "*.csv" in setup["package-data"]["stakeline.demo_data"]
+
+
+def test_every_source_folder_and_layout_file_goes_into_the_wheel():
+    setup = tomllib.loads((ROOT / "pyproject.toml").read_text())["tool"]["setuptools"]
+    folders = {folder: package for package, folder in setup["package-dir"].items()}
+    expected = set()
+    for folder, package in folders.items():
+        for init in (ROOT / folder).rglob("__init__.py"):
+            parts = init.parent.relative_to(ROOT / folder).parts
+            if "__pycache__" not in parts:
+                expected.add(".".join((package, *parts)))
+    assert set(setup["packages"]) == expected
+    for layout in [*(ROOT / "app").rglob("*.kv")]:
+        package = ".".join(("stakeline.app", *layout.parent.relative_to(ROOT / "app").parts))
+        assert "*.kv" in setup["package-data"].get(package, []), layout
