@@ -37,7 +37,7 @@ def test_layer_contracts_hold(tmp_path):
     lint = shutil.which("lint-imports", path=str(Path(sys.executable).parent)) or "lint-imports"
     env = {**os.environ, "PYTHONPATH": str(tmp_path)}
     done = subprocess.run(
-        [lint, str(PYPROJECT), "--no-cache", "--no-logo"],
+        [lint, "--config", str(PYPROJECT), "--no-cache"],
         capture_output=True, text=True, cwd=tmp_path, env=env, timeout=300,
     )  # fmt: skip
     assert done.returncode == 0, done.stdout + done.stderr
