@@ -16,16 +16,10 @@ Goals are checked and reported; the exit code is 1 if any is missed.
 
 from __future__ import annotations
 
-import sys
-from pathlib import Path
-
 import numpy as np
-
-sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
-
-from stakeline.gauging import analyse_gauging, velocity_area, verticals_from_section  # noqa: E402
-from stakeline.survey.geometry import Section  # noqa: E402
-from timing import best  # noqa: E402  (bench/timing.py)
+from stakeline.gauging import analyse_gauging, velocity_area, verticals_from_section
+from stakeline.survey.geometry import Section
+from timing import best  # bench/timing.py
 
 
 def channel(n: int, seed: int = 11) -> tuple[Section, float]:
