@@ -26,6 +26,7 @@ COMMAND_MODULES = (
     "stakeline.app.cli.compare",
     "stakeline.app.cli.export",
     "stakeline.app.cli.report",
+    "stakeline.app.cli.gauging",
 )
 """Modules that add commands to :data:`cli`, in the order ``stakeline --help`` lists them."""
 

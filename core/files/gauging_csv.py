@@ -131,11 +131,20 @@ def _velocity(cells: dict[str, str], row: int) -> tuple[float, str, dict]:
 def read_gauging_csv(path: str | Path) -> GaugingRows:
     """Read the verticals of a gauging from a CSV file with a header row (see the module notes).
 
-    Raises :class:`GaugingFileError` naming the row at fault: a cell that is not a number, a
-    negative depth, a station not beyond the one before, an angle not between -90 and 90
-    degrees, point velocities that form no published method, or a file over :data:`MAX_BYTES`.
+    Raises :class:`GaugingFileError` naming the file and the row at fault: a cell that is not a
+    number, a negative depth, a station not beyond the one before, an angle not between -90 and
+    90 degrees, point velocities that form no published method, or a file over
+    :data:`MAX_BYTES`.
     """
-    path = Path(path)
+    try:
+        return _read(Path(path))
+    except GaugingFileError as exc:
+        if str(exc).startswith(str(path)):
+            raise
+        raise GaugingFileError(f"{path}: {exc}", row=exc.row) from None
+
+
+def _read(path: Path) -> GaugingRows:
     lines = _lines(path)
     where = _header(path, lines)
     known = {"station", "depth", "velocity", "angle", *POINT_COLUMNS}

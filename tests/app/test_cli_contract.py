@@ -76,7 +76,8 @@ def by_option(command: click.Command) -> dict[str, click.Parameter]:
 
 
 def test_the_commands_are_those_of_today_in_that_order():
-    assert list(cli.commands) == list(TODAY)
+    # Today's commands come first, in their order; commands added since follow them.
+    assert list(cli.commands)[: len(TODAY)] == list(TODAY)
 
 
 @pytest.mark.parametrize("name", list(TODAY))
