@@ -36,9 +36,12 @@ class OvertoppedError(SectionError):
         self.stage = stage
         self.end_elevation = end_elevation
         self.excess = stage - end_elevation
+        from stakeline.survey.numbers import decimals_for  # shows a tiny excess as non-zero
+
+        d = decimals_for(self.excess)
         message = (
-            f"water level {stage:.3f} is {self.excess:.3f} above the {side} end of the section "
-            f"(point {index + 1}, station {station:g}, elevation {end_elevation:.3f}); "
+            f"water level {stage:.{d}f} is {self.excess:.{d}f} above the {side} end of the "
+            f"section (point {index + 1}, station {station:g}, elevation {end_elevation:.{d}f}); "
             f"extend the survey on the {side} bank"
         )
         super().__init__(message, index=index, station=station)

@@ -10,6 +10,7 @@ import threading
 
 import numpy as np
 from stakeline.errors import SurveyError
+from stakeline.survey import numbers
 
 
 class ServiceError(SurveyError):
@@ -18,14 +19,7 @@ class ServiceError(SurveyError):
 
 def parse_number(text: str, what: str) -> float:
     """The number typed in ``text`` (a decimal comma counts as a point), else ServiceError."""
-    cleaned = str(text).strip().replace(",", ".")
-    try:
-        value = float(cleaned)
-    except ValueError:
-        raise ServiceError(f"{what}: {text!r} is not a number; type digits and one point") from None
-    if not math.isfinite(value):
-        raise ServiceError(f"{what}: {text!r} is not a finite number")
-    return value
+    return numbers.parse_number(text, what, decimal_comma=True, error=ServiceError)
 
 
 def uniform_stations(distance: float, count: int, step_round: float = 0.05) -> list[float]:

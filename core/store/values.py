@@ -7,14 +7,14 @@ Used by :mod:`stakeline.store` (which holds all the SQL) and :mod:`stakeline.sto
 from __future__ import annotations
 
 import json
-import math
 import os
 import uuid as uuidlib
 from datetime import UTC, date, datetime
 from typing import Any
 
 from stakeline.errors import SurveyError
-from stakeline.survey import reduction
+from stakeline.survey.datum import Datum, plain_list
+from stakeline.survey.numbers import parse_number
 
 METHODS = ("line", "rod")
 """Ways of reading the bed: level line and plumb, or level and rod."""
@@ -78,17 +78,7 @@ def new_uuid() -> str:
 
 def number(value: Any, what: str, optional: bool = False) -> float | None:
     """``value`` as a finite float (survey unit), or None when optional; else StoreError."""
-    if value is None and optional:
-        return None
-    if isinstance(value, bool):
-        raise StoreError(f"{what} must be a number, not {value!r}")
-    try:
-        result = float(value)
-    except (TypeError, ValueError):
-        raise StoreError(f"{what} must be a number, not {value!r}") from None
-    if not math.isfinite(result):
-        raise StoreError(f"{what} must be a finite number, not {value!r}")
-    return result
+    return parse_number(value, what, optional=optional, error=StoreError)
 
 
 def text(value: Any, what: str) -> str:
@@ -137,33 +127,11 @@ def canonical_json(value: Any) -> str:
 
 
 def elevations(datum: dict, stations: list[float], readings: list[float]) -> list:
-    """Ground elevations (survey unit) of readings at stations, from the visit's ``datum``.
-
-    ``datum`` holds ``method``, ``line_left``, ``line_right``, ``stake_distance``, ``backsight``,
-    ``origin`` and ``benchmark_elevation``.  Line method: line - reading, the line straight
-    between the stakes when their heights differ and the stake distance is known, else their
-    mean.  Rod method: HI - foresight, HI = benchmark (assumed 100 when unknown) + backsight.
-    Elevations are None while the visit lacks line heights or a backsight.
-    """
-    if not readings:
-        return []
-    if datum["method"] == "rod":
-        if datum["backsight"] is None:
-            return [None] * len(readings)
-        benchmark = datum["benchmark_elevation"]
-        benchmark = reduction.ASSUMED_DATUM if benchmark is None else benchmark
-        return reduction.bed_from_rod(benchmark, datum["backsight"], readings).tolist()
-    left, right = datum["line_left"], datum["line_right"]
-    if left is None and right is None:
-        return [None] * len(readings)
-    left, right = (right, right) if left is None else (left, left if right is None else right)
-    distance = datum["stake_distance"]
-    if left == right or distance is None:
-        line = (left + right) / 2.0
-    else:
-        at_left, at_right = (0.0, distance) if datum["origin"] == "left" else (distance, 0.0)
-        line = reduction.line_elevation(stations, at_left, left, at_right, right)
-    return reduction.bed_from_line(readings, line).tolist()
+    """Ground elevations (survey unit) of readings at stations, from the visit's ``datum`` dict
+    (``method``, ``line_left``, ``line_right``, ``stake_distance``, ``backsight``, ``origin``,
+    ``benchmark_elevation``): see :class:`stakeline.survey.datum.Datum`.  None where a reading
+    cannot be reduced (no line heights or backsight yet)."""
+    return plain_list(Datum.from_visit(datum).elevations(stations, readings))
 
 
 def replay(versions: list[dict]) -> tuple[dict[str, dict], dict[str, dict], set[str]]:

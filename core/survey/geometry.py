@@ -27,6 +27,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 from stakeline.errors import OvertoppedError, SectionError
+from stakeline.survey.units import Unit
 
 FIGURES = (
     "area",
@@ -89,8 +90,57 @@ def point_array(values: Sequence[float], name: str, finite: bool = True) -> np.n
     bad = np.flatnonzero(~np.isfinite(arr)) if finite else ()
     if len(bad):
         i = int(bad[0])
+        if _is_none(values, i):
+            raise SectionError(f"point {i + 1}: {name} is missing (not recorded)", index=i)
         raise SectionError(f"point {i + 1}: {name} {arr[i]} is not a finite number", index=i)
+    if finite:
+        check_magnitude(arr, name)
     return arr
+
+
+def _snapped(x: np.ndarray) -> np.ndarray:
+    """``x`` with every station closer than :attr:`Unit.RESOLUTION` to the one before it moved
+    onto it: no tape reads closer, so the two points are one station (a vertical face)."""
+    close = np.flatnonzero((np.diff(x) > 0) & (np.diff(x) < Unit.RESOLUTION))
+    if not close.size:
+        return x
+    x = x.copy()
+    for i in close.tolist():
+        if x[i + 1] - x[i] < Unit.RESOLUTION:
+            x[i + 1] = x[i]
+    return x
+
+
+def close_stations(x: np.ndarray) -> np.ndarray:
+    """Indices of stations closer than :attr:`Unit.RESOLUTION` (a micrometre in metres) to the
+    station before them, yet not equal to it (stations sorted).
+
+    >>> close_stations(np.array([0.0, 1e-300, 1.0, 1.0])).tolist()
+    [1]
+    """
+    step = np.diff(np.asarray(x, dtype=float))
+    return np.flatnonzero((step > 0) & (step < Unit.RESOLUTION)) + 1
+
+
+def _is_none(values, i: int) -> bool:
+    try:
+        return values[i] is None
+    except (TypeError, IndexError, KeyError):
+        return False
+
+
+def check_magnitude(values: np.ndarray, name: str) -> None:
+    """Refuse stations or elevations beyond ±10^6 of the survey unit (no survey reaches them,
+    and the figures of such numbers overflow): a :class:`SectionError` naming the point."""
+    with np.errstate(invalid="ignore"):
+        far = np.flatnonzero(np.abs(values) > Unit.LIMIT)
+    if far.size:
+        i = int(far[0])
+        raise SectionError(
+            f"point {i + 1}: {name} {values[i]:g} is beyond ±{Unit.LIMIT:,.0f} of the survey "
+            "unit; check the number (a digit typed twice, or a wrong unit?)",
+            index=i,
+        )
 
 
 def water_strip(x: np.ndarray, z: np.ndarray, level: float) -> tuple[np.ndarray, np.ndarray]:
@@ -118,7 +168,9 @@ class Section:
     """A surveyed cross-section: stations (distance across) and ground elevations, one length unit.
 
     Stations must not decrease; two equal neighbouring stations describe a vertical face (a wall or
-    cut bank).  Malformed input raises :class:`stakeline.errors.SectionError` (a ``ValueError``) naming the
+    cut bank), and stations closer than a micrometre (:attr:`Unit.RESOLUTION` of the unit) are
+    taken as equal (the places where a person gives stations refuse them).  Stations and
+    elevations beyond ±10^6 of the unit are refused.  Malformed input raises :class:`stakeline.errors.SectionError` (a ``ValueError``) naming the
     offending point (1-based, as a crew counts them).
     """
 
@@ -140,6 +192,7 @@ class Section:
                 index=i,
                 station=float(x[i]),
             )
+        x = _snapped(x)
         self.stations = x
         self.elevations = z
         self.stations.flags.writeable = False
@@ -158,6 +211,15 @@ class Section:
     def lowest(self) -> float:
         """Elevation of the lowest point (the thalweg), survey unit."""
         return self._lowest
+
+    @property
+    def breakpoints(self) -> np.ndarray:
+        """Levels where the piecewise form changes (point elevations, survey unit), ascending.
+
+        Between two of them the area is quadratic and the top width and perimeter linear in the
+        stage; at one of them top width and perimeter may step up (a flat stretch flooding).
+        """
+        return self._breaks
 
     @property
     def highest_stage(self) -> float:
@@ -309,3 +371,99 @@ class Section:
         last = min(int(wet[-1]) + 1, x.size - 1)
         depth = h - z[first : last + 1]
         return float(np.sum(np.diff(x[first : last + 1]) * (depth[1:] + depth[:-1]) / 2))
+
+
+# --- many profiles at once, and how the figures move with each point ----------------------------
+_WETTED = ("area", "wetted_perimeter", "top_width")
+
+
+def _segments(x0, x1, z0, z1, stage: float):
+    """Per segment: width, rise, length, the depths at its ends and which parts are wet."""
+    w, rise = x1 - x0, z1 - z0
+    d0, d1 = stage - z0, stage - z1
+    both = (d0 > 0) & (d1 > 0)
+    cross = (d0 > 0) != (d1 > 0)
+    wet_depth = np.maximum(d0, d1)  # in a crossing segment: the wet end's depth
+    gap = np.where(cross, wet_depth - np.minimum(d0, d1), 1.0)  # = |rise| where crossing
+    return w, rise, np.hypot(w, rise), d0, d1, both, cross, wet_depth, gap
+
+
+def profile_figures(stations, elevations, stage: float) -> dict[str, np.ndarray]:
+    """Area, wetted perimeter, top width and hydraulic radius of many profiles at one level.
+
+    ``stations`` and ``elevations`` are arrays of shape ``(profiles, points)`` (or 1-D for one
+    profile), stations not decreasing along each profile; every depression below ``stage`` is
+    wet, exactly as :meth:`Section.at` (without its validation, for speed on many copies).
+    Returns arrays of shape ``(profiles,)``; lengths in the survey unit, area in unit².
+
+    >>> f = profile_figures([[0, 0, 2, 2], [0, 0, 4, 4]], [[2, 0, 0, 2]] * 2, 1.0)
+    >>> f["area"].tolist(), f["wetted_perimeter"].tolist()
+    ([2.0, 4.0], [4.0, 6.0])
+    """
+    x = np.atleast_2d(np.asarray(stations, dtype=float))
+    z = np.atleast_2d(np.asarray(elevations, dtype=float))
+    w, _, length, d0, d1, both, cross, e, gap = _segments(
+        x[..., :-1], x[..., 1:], z[..., :-1], z[..., 1:], float(stage)
+    )
+    share = np.where(cross, e / gap, both)  # wetted share of each segment's width and length
+    area = np.where(both, w * (d0 + d1) / 2.0, np.where(cross, w * e * e / (2.0 * gap), 0.0))
+    area, perimeter, top = area.sum(axis=-1), (length * share).sum(-1), (w * share).sum(-1)
+    radius = np.divide(area, perimeter, out=np.zeros_like(area), where=perimeter > 0)
+    return {
+        "area": area,
+        "wetted_perimeter": perimeter,
+        "top_width": top,
+        "hydraulic_radius": radius,
+    }
+
+
+def figure_gradients(
+    stations, elevations, stage: float
+) -> dict[str, tuple[np.ndarray, np.ndarray]]:
+    """How area, wetted perimeter and top width move with each point of one profile, exactly.
+
+    Returns ``{name: (d_by_elevation, d_by_station)}``, each an array with one value per point:
+    the partial derivative of the figure at ``stage`` with respect to that point's elevation
+    and station (area in unit² per unit, lengths per unit).  Each point moves only the two
+    segments beside it, so this costs O(points).  Where the water meets a point exactly the
+    derivative from above is taken.
+
+    >>> dz, dx = figure_gradients([0, 0, 4, 4], [2, 0, 0, 2], 1.0)["area"]
+    >>> dz.tolist()                       # lowering a bed point adds half of each panel
+    [0.0, -2.0, -2.0, 0.0]
+    >>> dx.tolist()                       # a wall's two points share one tape reading: -1, +1
+    [-0.25, -0.75, 0.75, 0.25]
+    """
+    x = np.asarray(stations, dtype=float)
+    z = np.asarray(elevations, dtype=float)
+    w, rise, length, d0, d1, both, cross, e, g = _segments(x[:-1], x[1:], z[:-1], z[1:], stage)
+    q = np.where(cross, e - g, 0.0)  # the dry end's depth (<= 0) in a crossing segment
+    safe = np.where(length > 0, length, 1.0)
+    wet0 = d0 > 0
+    out = {}
+    # Partial derivatives by the wet depth e, the dry depth q and the width w (crossing), or by
+    # the four coordinates directly (both ends wet); d/dz = -d/d(depth), d/dx1 = -d/dx0 = d/dw.
+    crossing = {
+        "area": (w * e * (2 * g - e) / (2 * g * g), w * e * e / (2 * g * g), e * e / (2 * g)),
+        "top_width": (-w * q / (g * g), w * e / (g * g), e / g),
+        "wetted_perimeter": (
+            e / safe - length * q / (g * g),
+            -e / safe + length * e / (g * g),
+            w / safe * e / g,
+        ),
+    }
+    wet = {
+        "area": (-w / 2, -w / 2, (d0 + d1) / 2),
+        "top_width": (np.zeros_like(w), np.zeros_like(w), np.ones_like(w)),
+        "wetted_perimeter": (-rise / safe, rise / safe, w / safe),
+    }
+    for name in _WETTED:
+        by_e, by_q, by_w = crossing[name]
+        dz0_w, dz1_w, dw_w = wet[name]
+        dz0 = np.where(both, dz0_w, np.where(cross, np.where(wet0, -by_e, -by_q), 0.0))
+        dz1 = np.where(both, dz1_w, np.where(cross, np.where(wet0, -by_q, -by_e), 0.0))
+        dw = np.where(both, dw_w, np.where(cross, by_w, 0.0))
+        grad_z = np.concatenate([dz0, [0.0]]) + np.concatenate([[0.0], dz1])
+        grad_x = np.concatenate([-dw, [0.0]]) + np.concatenate([[0.0], dw])
+        out[name] = (grad_z, grad_x)
+    return out

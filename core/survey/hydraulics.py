@@ -33,63 +33,31 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 from stakeline.errors import SectionError, SurveyError
+from stakeline.survey.codes import BANK_TOP, normal_code
+from stakeline.survey.figures import figure_unit  # noqa: F401  (its old home)
 from stakeline.survey.geometry import Section
-from stakeline.survey.reduction import check_unit
+from stakeline.survey.numbers import parse_number
+from stakeline.survey.units import Unit, by_unit, unit_of
 
-MANNING_K = {"m": 1.0, "ft": 1.486}
-"""Unit constant k of Manning's equation for each survey length unit."""
+MANNING_K = by_unit("manning_k")
+"""Unit constant k of Manning's equation for each survey length unit (see :class:`Unit`)."""
 
-GRAVITY = {"m": 9.80665, "ft": 32.174}
+GRAVITY = by_unit("gravity")
 """Standard gravity, m/s² and ft/s²."""
 
-UNIT_WEIGHT = {"m": 9806.65, "ft": 62.4}
+UNIT_WEIGHT = by_unit("unit_weight")
 """Unit weight of water γ: N/m³ (1000 kg/m³ × g) and lb/ft³ (common practice)."""
-
-BANK_TOP = "bank_top"
-"""Feature code of a bank top; compound sections split there."""
 
 SUBSECTION_NAMES = ("left overbank", "main channel", "right overbank")
 
-_UNITS = {
-    "length": ("m", "ft"),
-    "area": ("m²", "ft²"),
-    "discharge": ("m³/s", "ft³/s"),
-    "velocity": ("m/s", "ft/s"),
-    "shear_stress": ("Pa", "lb/ft²"),
-    "stream_power": ("W/m²", "ft·lb/s/ft²"),
-    "none": ("", ""),
-}
-_KIND = {
-    "area": "area",
-    "discharge": "discharge",
-    "conveyance": "discharge",
-    "velocity": "velocity",
-    "shear_stress": "shear_stress",
-    "stream_power": "stream_power",
-    "froude": "none",
-    "width_depth_ratio": "none",
-}
-
-
-def figure_unit(name: str, unit: str) -> str:
-    """Unit symbol of figure ``name`` (e.g. ``"discharge"``) for survey length unit ``unit``.
-
-    >>> figure_unit("discharge", "ft"), figure_unit("top_width", "m"), figure_unit("froude", "m")
-    ('ft³/s', 'm', '')
-    """
-    return _UNITS[_KIND.get(name, "length")][0 if check_unit(unit) == "m" else 1]
-
 
 def _positive(value: float, name: str) -> float:
-    v = float(value)
-    if not (math.isfinite(v) and v > 0):
-        raise SurveyError(f"{name} must be a positive number, got {value!r}")
-    return v
+    return parse_number(value, name, positive=True)
 
 
 def manning_discharge(area, hydraulic_radius, slope: float, n: float, unit: str = "m"):
     """Discharge by Manning's equation (unit³/s) from area (unit²) and hydraulic radius (unit)."""
-    k = MANNING_K[check_unit(unit)]
+    k = unit_of(unit).manning_k
     a = np.asarray(area, dtype=float)
     r = np.asarray(hydraulic_radius, dtype=float)
     q = (
@@ -112,13 +80,13 @@ def froude_number(velocity, hydraulic_depth, unit: str = "m"):
     v = np.asarray(velocity, dtype=float)
     d = np.asarray(hydraulic_depth, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
-        fr = np.where(d > 0, v / np.sqrt(GRAVITY[check_unit(unit)] * d), 0.0)
+        fr = np.where(d > 0, v / np.sqrt(unit_of(unit).gravity * d), 0.0)
     return float(fr) if fr.ndim == 0 else fr
 
 
 def shear_stress(hydraulic_radius, slope: float, unit: str = "m"):
     """Mean boundary shear stress γ·R·S: Pa for metres, lb/ft² for feet."""
-    out = UNIT_WEIGHT[check_unit(unit)] * np.asarray(hydraulic_radius, dtype=float) * float(slope)
+    out = unit_of(unit).unit_weight * np.asarray(hydraulic_radius, dtype=float) * float(slope)
     return float(out) if out.ndim == 0 else out
 
 
@@ -127,7 +95,7 @@ def stream_power(discharge, slope: float, top_width, unit: str = "m"):
     q = np.asarray(discharge, dtype=float)
     t = np.asarray(top_width, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
-        out = np.where(t > 0, UNIT_WEIGHT[check_unit(unit)] * q * float(slope) / t, 0.0)
+        out = np.where(t > 0, unit_of(unit).unit_weight * q * float(slope) / t, 0.0)
     return float(out) if out.ndim == 0 else out
 
 
@@ -158,7 +126,7 @@ def bank_top_splits(stations, elevations, codes: Sequence[str]) -> list[float]:
     if len(codes) != x.size:
         raise SurveyError(f"{len(codes)} feature codes for {x.size} stations")
     deepest = int(np.argmin(z))
-    tops = [i for i, c in enumerate(codes) if c.strip().lower() == BANK_TOP]
+    tops = [i for i, c in enumerate(codes) if normal_code(c) == BANK_TOP]
     left = [float(x[i]) for i in tops if i < deepest and x[i] > x[0]]
     right = [float(x[i]) for i in tops if i > deepest and x[i] < x[-1]]
     return ([max(left)] if left else []) + ([min(right)] if right else [])
@@ -204,7 +172,7 @@ class CompoundSection:
                     f"split station {s:g} is not inside the section ({x[0]:g} to {x[-1]:g})",
                     station=s,
                 )
-            hits = np.flatnonzero(x == s)
+            hits = np.flatnonzero(np.abs(x - s) < Unit.RESOLUTION)  # at a station: no sliver
             if hits.size:
                 cuts.append(int(hits[0] if s <= thalweg else hits[-1]))
                 continue
@@ -310,7 +278,7 @@ def flow_table(
     conveyance is summed by subsection and ``parts`` holds the subsection figures.
     """
     s = _positive(slope, "slope")
-    fig = _channel_table(section, stages, n, check_unit(unit), splits)
+    fig = _channel_table(section, stages, n, unit_of(unit).key, splits)
     q = fig["conveyance"] * math.sqrt(s)
     with np.errstate(divide="ignore", invalid="ignore"):
         v = np.where(fig["area"] > 0, q / fig["area"], 0.0)
@@ -329,22 +297,37 @@ def flow_at(section: Section, stage: float, n, slope: float, unit: str = "m", sp
     return Flow(**{name: float(fig[name]) for name in Flow.__dataclass_fields__})
 
 
-def _lowest_root(section: Section, value, target: float, what: str) -> float:
-    """Lowest stage where the non-negative ``value(stages)`` first reaches ``target``."""
-    lo, hi = section.lowest, section.highest_stage
-    grid = np.linspace(lo, hi, 1025)
+def _lowest_root(breaks, value, target: float, what: str, lo: float, hi: float) -> float:
+    """Lowest stage in ``[lo, hi]`` where ``value(stages)`` reaches ``target``.
+
+    ``value`` must be what the hydraulic figures are on a surveyed section: continuous between
+    the levels ``breaks`` where the piecewise form changes, stepping only *down* at one of them
+    (a flat stretch flooding adds perimeter and width at once, not area), and on each piece
+    between two breaks falling first (or not at all) and then rising.  For a single channel both
+    Manning's A^(5/3)·P^(-2/3) and the critical-flow factor A^(3/2)·T^(-1/2) are so: with A
+    quadratic and P, T linear in the stage on a piece, the sign of their slope is that of
+    ``5TP - 2A·dP/dh`` (``3T² - A·dT/dh``), which only grows with the stage.  The scan therefore
+    takes every break and a fine grid; below the first scanned level that reaches the target no
+    level does, and within the last step the levels that reach it form one interval, whose start
+    bisection finds to machine precision.  (For a divided channel each subsection is so; the
+    scan holds every subsection's breaks.)
+    """
+    inside = breaks[(breaks > lo) & (breaks < hi)]
+    grid = np.unique(np.concatenate([np.linspace(lo, hi, 1025), inside]))
     values = value(grid)
     above = np.flatnonzero(values >= target)
     if not above.size:
+        most = int(np.argmax(values))
         raise SurveyError(
-            f"{what} {target:.6g} is more than the section carries when full "
-            f"({float(values[-1]):.6g} at water level {hi:.3f}); extend the survey on the banks"
+            f"{what} {target:.6g} is more than the section carries at any level up to full "
+            f"(at most {float(values[most]):.6g}, at water level {grid[most]:.3f}); extend the "
+            "survey on the banks"
         )
     i = int(above[0])
     if i == 0:
-        return lo
-    a, b = grid[i - 1], grid[i]
-    for _ in range(100):
+        return float(lo)
+    a, b = float(grid[i - 1]), float(grid[i])
+    for _ in range(200):
         mid = 0.5 * (a + b)
         if mid in (a, b):
             break
@@ -352,7 +335,16 @@ def _lowest_root(section: Section, value, target: float, what: str) -> float:
             b = mid
         else:
             a = mid
-    return float(b)
+    return b
+
+
+def _breaks(section: Section, n, splits) -> np.ndarray:
+    """Every level where the figures' piecewise form changes, subsections included."""
+    if not splits:
+        return section.breakpoints
+    values = list(np.ravel(n)) if np.ndim(n) else [float(n)] * (len(splits) + 1)
+    parts = CompoundSection(section, splits, values).parts
+    return np.unique(np.concatenate([piece.breakpoints for piece, _ in parts]))
 
 
 def stage_for_discharge(
@@ -360,8 +352,15 @@ def stage_for_discharge(
 ) -> float:
     """Water level (survey unit) at which uniform flow carries ``discharge`` (unit³/s).
 
-    The lowest such level, found by bisection to machine precision; with a known slope this is
-    the normal depth added to the lowest bed elevation.
+    The lowest such level, found exactly on the piecewise form (see :func:`_lowest_root`); with
+    a known slope this is the normal depth added to the lowest bed elevation.
+
+    Examples
+    --------
+    >>> rect = Section([0, 0, 2, 2], [2, 0, 0, 2])
+    >>> h = stage_for_discharge(rect, 1.0, 0.03, 0.001)
+    >>> round(flow_at(rect, h, 0.03, 0.001).discharge, 9)
+    1.0
     """
     target = _positive(discharge, "discharge")
     _positive(slope, "slope")
@@ -369,18 +368,35 @@ def stage_for_discharge(
     def q(stages):
         return flow_table(section, stages, n, slope, unit, splits)["discharge"]
 
-    return _lowest_root(section, q, target, "discharge")
+    breaks = _breaks(section, n, splits)
+    return _lowest_root(breaks, q, target, "discharge", section.lowest, section.highest_stage)
 
 
 def critical_stage(section: Section, discharge: float, unit: str = "m") -> float:
-    """Water level (survey unit) of critical flow for ``discharge``: Q²·T / (g·A³) = 1."""
-    target = _positive(discharge, "discharge") / math.sqrt(GRAVITY[check_unit(unit)])
+    """Water level (survey unit) of critical flow for ``discharge`` (unit³/s): Q²·T / (g·A³) = 1.
+
+    The lowest such level, found exactly on the piecewise form.
+
+    Examples
+    --------
+    >>> rect = Section([0, 0, 2, 2], [3, 0, 0, 3])      # y_c = (q²/g)^(1/3), q = Q/b
+    >>> round(critical_stage(rect, 2.0), 6) == round((1.0 / 9.80665) ** (1 / 3), 6)
+    True
+    """
+    target = _positive(discharge, "discharge") / math.sqrt(unit_of(unit).gravity)
 
     def section_factor(stages):  # Z = A·√(A/T), which equals Q/√g at critical flow
         fig = section.table(stages)
         return fig["area"] * np.sqrt(fig["hydraulic_depth"])
 
-    return _lowest_root(section, section_factor, target, "discharge / √g")
+    return _lowest_root(
+        section.breakpoints,
+        section_factor,
+        target,
+        "discharge / √g",
+        section.lowest,
+        section.highest_stage,
+    )
 
 
 def bankfull_stage(stations, elevations, codes: Sequence[str]) -> float | None:
@@ -393,7 +409,7 @@ def bankfull_stage(stations, elevations, codes: Sequence[str]) -> float | None:
     if len(codes) != z.size or len(stations) != z.size:
         raise SurveyError(f"{len(codes)} feature codes for {z.size} stations")
     deepest = int(np.argmin(z))
-    tops = [i for i, c in enumerate(codes) if c.strip().lower() == BANK_TOP]
+    tops = [i for i, c in enumerate(codes) if normal_code(c) == BANK_TOP]
     left = [i for i in tops if i < deepest]
     right = [i for i in tops if i > deepest]
     if not left or not right:
