@@ -13,8 +13,9 @@ from dataclasses import dataclass, fields
 
 import numpy as np
 from stakeline.errors import SectionError, SurveyError
-from stakeline.survey.geometry import point_array
-from stakeline.survey.reduction import check_unit
+from stakeline.survey.codes import BREAK_CODES, FACE_CODES, normal_code  # noqa: F401 (re-exported)
+from stakeline.survey.geometry import check_magnitude, point_array
+from stakeline.survey.units import unit_of
 
 SEVERITIES = ("block", "warn", "note")
 """Severities, most serious first."""
@@ -22,13 +23,7 @@ SEVERITIES = ("block", "warn", "note")
 KINDS = ("order", "duplicate", "overtopped", "spike", "gap", "sparse", "edge", "line", "closure")
 """Every finding kind :func:`review` can return."""
 
-BREAK_CODES = frozenset({"bank_top", "toe", "break", "bench", "face", "undercut", "wall"})
-"""Feature codes that mark a slope break: the ground may turn there at any angle."""
-
 _BREAKS = np.array(sorted(BREAK_CODES), dtype=object)
-
-FACE_CODES = frozenset({"bank_top", "toe", "face", "undercut", "wall"})
-"""Feature codes that mark a vertical face: two readings at one such station are expected."""
 
 
 @dataclass(frozen=True)
@@ -58,31 +53,6 @@ class Finding:
             "message": self.message,
             "suggestion": self.suggestion,
         }
-
-
-# Defaults per unit.  Precisions are the crew's usual +-5 mm reading and +-10 mm station (0.02 ft,
-# 0.03 ft); the tolerances below are ours, set from those precisions and tuned on generated
-# sections (bench/bench_checks.py).
-_UNIT_DEFAULTS = {
-    "m": {
-        "reading_precision": 0.005,
-        "station_precision": 0.01,
-        "spike_floor": 0.02,
-        "edge_distance": 0.15,
-        "line_tolerance": 0.01,
-        "closure_coefficient": 0.012,
-        "closure_length_unit": 1000.0,
-    },
-    "ft": {
-        "reading_precision": 0.02,
-        "station_precision": 0.03,
-        "spike_floor": 0.06,
-        "edge_distance": 0.5,
-        "line_tolerance": 0.03,
-        "closure_coefficient": 0.05,
-        "closure_length_unit": 5280.0,
-    },
-}
 
 
 @dataclass(frozen=True)
@@ -147,7 +117,8 @@ class CheckSettings:
         >>> CheckSettings.for_unit("ft").edge_distance
         0.5
         """
-        check_unit(unit)
+        defaults = unit_of(unit).check_defaults
+        unit = unit_of(unit).key
         known = {f.name for f in fields(cls)} - {"unit"}
         unknown = sorted(set(overrides) - known)
         if unknown:
@@ -155,14 +126,14 @@ class CheckSettings:
                 f"unknown check setting {', '.join(map(repr, unknown))}; "
                 f"known settings: {', '.join(sorted(known))}"
             )
-        values = dict(_UNIT_DEFAULTS[unit], **overrides)
+        values = dict(defaults, **overrides)
         return cls(unit=unit, **values)
 
 
 def resolve_settings(settings=None, unit: str | None = None) -> CheckSettings:
     """Settings from ``None``, a :class:`CheckSettings` or a dict of overrides, for ``unit``."""
     if isinstance(settings, CheckSettings):
-        if unit is not None and check_unit(unit) != settings.unit:
+        if unit is not None and unit_of(unit).key != settings.unit:
             raise SurveyError(
                 f"the survey is in {unit!r} but the check settings are for {settings.unit!r}"
             )
@@ -184,7 +155,7 @@ def _at(value: float, unit: str) -> str:
 
 def _new_station(value: float, unit: str) -> str:
     """A station to add, rounded to what a tape is read to in practice (0.05 m / 0.1 ft)."""
-    step = 0.05 if unit == "m" else 0.1
+    step = unit_of(unit).tape_step
     return _at(round(float(value) / step) * step, unit)
 
 
@@ -204,7 +175,8 @@ def _inputs(stations, elevations, codes, readings):
         if bad.size:
             i = int(bad[0])
             raise SectionError(f"point {i + 1}: {name} {arr[i]} is not a finite number", index=i)
-    codes = [""] * x.size if codes is None else [str(c or "").strip().lower() for c in codes]
+        check_magnitude(arr, name)
+    codes = [""] * x.size if codes is None else [normal_code(c) for c in codes]
     if len(codes) != x.size:
         raise SectionError(f"{len(codes)} feature codes for {x.size} stations: give one each")
     if readings is not None:
@@ -213,4 +185,5 @@ def _inputs(stations, elevations, codes, readings):
         except (TypeError, ValueError):  # None or "" for a reading not recorded
             readings = [np.nan if r is None or r == "" else r for r in readings]
         readings = _as_array(readings, "readings", x.size)
+        check_magnitude(np.where(np.isfinite(readings), readings, 0.0), "reading")
     return x, z, codes, readings

@@ -45,7 +45,7 @@ from __future__ import annotations
 
 import bisect
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import replace
 
 import numpy as np
@@ -56,20 +56,27 @@ from stakeline.checks.common import (
     SEVERITIES,
     CheckSettings,
     Finding,
-    _as_array,
     _at,
     _inputs,
     _len,
     resolve_settings,
 )
+from stakeline.checks.line import (
+    closure_findings,
+    closure_tolerance,
+    line_findings,
+    reading_findings,
+)
 from stakeline.checks.spike import spike_findings, spike_scores
 from stakeline.checks.water import edge_findings, gap_findings, overtopped_findings, sparse_findings
 from stakeline.errors import SurveyError
+from stakeline.survey.geometry import close_stations, snap_stations
 
 __all__ = [
     "BREAK_CODES",
     "FACE_CODES",
     "KINDS",
+    "POINT_KINDS",
     "SEVERITIES",
     "CheckSettings",
     "Finding",
@@ -77,6 +84,7 @@ __all__ = [
     "closure_tolerance",
     "duplicate_findings",
     "edge_findings",
+    "flagged_stations",
     "gap_findings",
     "line_findings",
     "order_findings",
@@ -180,12 +188,20 @@ def duplicate_findings(
     ['warn']
     >>> duplicate_findings([0, 1, 1, 2], [2.0, 2.0, 0.5, 0.4])
     []
+
+    Three or more readings at one station that go down and back up describe a slit of no width,
+    which no plumb can read, yet it counts twice its depth as wetted perimeter: ``block``.
+
+    >>> [(f.kind, f.severity) for f in duplicate_findings([0, 2, 2, 2, 4], [1, 1, 0, 1, 1])]
+    [('duplicate', 'block')]
     """
     cfg = settings or CheckSettings()
     x, z = np.asarray(stations, dtype=float), np.asarray(elevations, dtype=float)
     codes = list(codes) if codes is not None else [""] * x.size
-    out = []
+    out, in_slit = _slit_findings(x, z, cfg)
     for i in np.flatnonzero(np.diff(x) == 0).tolist():
+        if i in in_slit:
+            continue
         j, unit = i + 1, cfg.unit
         at, step = _at(x[i], unit), z[i + 1] - z[i]
         both = f"{_len(z[i], unit)} and {_len(z[j], unit)}"
@@ -228,181 +244,51 @@ def duplicate_findings(
     return out
 
 
-# ---------------------------------------------------------------------------- line and closure
-def _number(meta: Mapping, key: str) -> float | None:
-    value = meta.get(key)
-    if value is None or value == "":
-        return None
-    try:
-        number = float(value)
-    except (TypeError, ValueError):
-        raise SurveyError(f"survey detail {key!r} is {value!r}, not a number") from None
-    if not math.isfinite(number):
-        raise SurveyError(f"survey detail {key!r} is {value!r}, not a finite number")
-    return number
-
-
-def _line_at(meta: Mapping, stations) -> np.ndarray | None:
-    """Elevation of the level line at ``stations`` (survey unit), or None without line heights.
-
-    As the store reduces readings: straight between the stakes (at 0 and ``stake_distance``,
-    from the ``origin`` stake) when their heights differ and the distance is known, else their
-    mean.
-    """
-    left, right = _number(meta, "line_left"), _number(meta, "line_right")
-    if left is None and right is None:
-        return None
-    left = right if left is None else left
-    right = left if right is None else right
-    x = np.asarray(stations, dtype=float)
-    distance = _number(meta, "stake_distance")
-    if left == right or not distance:
-        return np.full(x.shape, 0.5 * (left + right))
-    at_left, at_right = (0.0, distance) if meta.get("origin", "left") == "left" else (distance, 0.0)
-    return left + (right - left) * (x - at_left) / (at_right - at_left)
-
-
-def line_findings(meta: Mapping, settings=None) -> list[Finding]:
-    """``line`` findings: the line heights at the stakes against the crew's level check.
-
-    ``meta`` keys (survey unit): ``line_left``, ``line_right`` (line heights recorded at the
-    stakes), ``line_check`` (the line's height found by the level check) and optionally
-    ``line_check_station`` (where the check was taken; the line is straight between the stakes,
-    see ``stake_distance`` and ``origin``).  Without a station the line is meant to be level and
-    each stake's height must agree with the check within ``settings.line_tolerance``.
-    """
-    cfg = settings or CheckSettings()
-    left, right = _number(meta, "line_left"), _number(meta, "line_right")
-    check = _number(meta, "line_check")
-    if check is None or (left is None and right is None):
-        return []
-    at = _number(meta, "line_check_station")
-    if at is not None:
-        ends = [(f"the line at {_at(at, cfg.unit)}", float(_line_at(meta, at)))]
-    else:
-        ends = [
-            (n, v)
-            for n, v in (("the left stake", left), ("the right stake", right))
-            if v is not None
-        ]
-    out = []
-    for name, height in ends:
-        off = height - check
-        if abs(off) > cfg.line_tolerance:
-            out.append(
-                Finding(
-                    "line",
-                    "block",
-                    None,
-                    f"the line height at {name} ({_len(height, cfg.unit)}) differs from the level "
-                    f"check ({_len(check, cfg.unit)}) by {_len(abs(off), cfg.unit)}; tolerance "
-                    f"{_len(cfg.line_tolerance, cfg.unit)}",
-                    f"re-level the line at {name.removeprefix('the ')} (check it has not "
-                    "slipped or sagged), then re-enter its height",
-                )
-            )
-    return out
-
-
-def reading_findings(stations, readings, elevations=None, meta=None, settings=None):
-    """``line`` findings for readings no plumb (or rod) could give, and for elevations that are
-    not line height minus reading (stations, readings, elevations in the survey unit; NaN for a
-    reading not recorded)."""
-    cfg, meta = settings or CheckSettings(), meta or {}
-    x, r = np.asarray(stations, dtype=float), np.asarray(readings, dtype=float)
-    unit = cfg.unit
-    tool = "rod" if meta.get("method") == "rod" else "plumb"
-    longest = _number(meta, "plumb_length") or cfg.plumb_length
-    too_long = r > longest if longest is not None else np.zeros(r.size, dtype=bool)
-    out = []
-    for i in np.flatnonzero((r < 0) | too_long).tolist():
-        at, reading = _at(x[i], unit), _len(r[i], unit)
-        if r[i] < 0:
-            message = (
-                f"the reading at station {at} is negative ({reading}); a {tool} reading cannot be"
-            )
-            why = "a sign typed by mistake, or the line lifted?"
-        else:
-            message = f"the reading at station {at} ({reading}) is longer than the {tool} ({_len(longest, unit)})"
-            why = "a digit typed twice or missed?"
-        out.append(
-            Finding("line", "block", float(x[i]), message, f"re-read station {at} ({why})", i)
-        )
-    left, right = _number(meta, "line_left"), _number(meta, "line_right")
-    sloped = None not in (left, right) and left != right and not _number(meta, "stake_distance")
-    line = None if elevations is None or tool == "rod" or sloped else _line_at(meta, x)
-    if line is None:  # a sloping line with no stake distance: how it was reduced is not known
-        return out
-    expected = line - r
-    off = np.asarray(elevations, dtype=float) - expected
-    for i in np.flatnonzero(np.abs(off) > cfg.reading_precision).tolist():
-        at = _at(x[i], unit)
+def _slit_findings(x: np.ndarray, z: np.ndarray, cfg: CheckSettings):
+    """Block findings for slits -- runs of three or more readings at one station going down and
+    back up -- and the positions ``i`` of the pairs ``(i, i + 1)`` inside them."""
+    out, inside = [], set()
+    edges = np.flatnonzero(np.r_[True, np.diff(x) != 0, True])
+    for start, stop in zip(edges[:-1].tolist(), edges[1:].tolist(), strict=True):
+        if stop - start < 3:
+            continue
+        run = z[start:stop]
+        before = np.maximum.accumulate(run)
+        after = np.maximum.accumulate(run[::-1])[::-1]
+        depth = np.minimum(before, after) - run
+        k = int(np.argmax(depth))
+        if depth[k] <= 2 * cfg.reading_precision:
+            continue
+        inside.update(range(start, stop - 1))
+        unit, at = cfg.unit, _at(x[start], cfg.unit)
+        read = ", ".join(f"{v:.3f}" for v in run.tolist())
         message = (
-            f"at station {at} the elevation {_len(off[i] + expected[i], unit)} is not line "
-            f"height minus reading ({_len(expected[i], unit)})"
+            f"station {at} was read {stop - start} times going down and back up (elevations "
+            f"{read} {unit}): a slit of no width, which no plumb can read, that counts "
+            f"{_len(2 * depth[k], unit)} of wetted perimeter and no area"
         )
-        todo = f"re-enter station {at} so that reading and elevation agree"
-        out.append(Finding("line", "warn", float(x[i]), message, todo, i))
+        todo = (
+            f"re-read station {at}: a vertical face has two readings (top and foot), so delete "
+            "the others; a narrow hole needs its own stations either side"
+        )
+        out.append(Finding("duplicate", "block", float(x[start]), message, todo, start + k))
+    return out, inside
+
+
+def _close_findings(x: np.ndarray, unit: str) -> list[Finding]:
+    """Block findings for stations closer than a micrometre to the one before (sorted)."""
+    out = []
+    for i in close_stations(x).tolist():
+        message = (
+            f"stations {x[i - 1]!r} and {x[i]!r} {unit} are closer than a micrometre, which no "
+            "tape reads"
+        )
+        todo = (
+            f"give both points one station (a vertical face), or correct the tape reading at "
+            f"{_at(x[i], unit)}"
+        )
+        out.append(Finding("duplicate", "block", float(x[i]), message, todo, i))
     return out
-
-
-def closure_tolerance(loop_length: float | None, settings=None) -> float:
-    """Allowed level-loop misclosure (survey unit) for a loop ``loop_length`` long (survey unit).
-
-    Third-order levelling: 12 mm x sqrt(K), K the loop length in km; 0.05 ft x sqrt(M), M in
-    miles (FGCC 1984; from memory).  Unknown length: 1 km (or 1 mile) is assumed.
-    ``settings.closure_tolerance`` replaces the formula when set.
-
-    >>> round(closure_tolerance(250.0), 4)
-    0.006
-    """
-    cfg = settings or CheckSettings()
-    if cfg.closure_tolerance is not None:
-        return float(cfg.closure_tolerance)
-    length = cfg.closure_length_unit if loop_length is None else float(loop_length)
-    return cfg.closure_coefficient * math.sqrt(max(length, 0.0) / cfg.closure_length_unit)
-
-
-def closure_findings(meta: Mapping, settings=None) -> list[Finding]:
-    """``closure`` finding for a level loop that closes on its benchmark beyond tolerance.
-
-    ``meta`` keys: ``backsights`` and ``foresights`` (lists, survey unit) or ``misclosure``, and
-    ``loop_length`` (survey unit, the distance levelled out and back).
-    """
-    cfg = settings or CheckSettings()
-    misclosure = _number(meta, "misclosure")
-    if misclosure is None and meta.get("backsights") is not None:
-        back = _as_array(meta["backsights"], "backsights")
-        fore = _as_array(meta.get("foresights") or [], "foresights")
-        misclosure = float(np.sum(back) - np.sum(fore))
-    if misclosure is None:
-        return []
-    length = _number(meta, "loop_length")
-    tol = closure_tolerance(length, cfg)
-    if abs(misclosure) <= tol:
-        return []
-    unit = cfg.unit
-    basis = (
-        "the tolerance set by the crew"
-        if cfg.closure_tolerance is not None
-        else "third-order levelling, FGCC 1984"
-        + (
-            ""
-            if length is not None
-            else f", loop length not given: 1 {'km' if unit == 'm' else 'mile'} assumed"
-        )
-    )
-    return [
-        Finding(
-            "closure",
-            "block",
-            None,
-            f"the level loop misses the benchmark by {_len(misclosure, unit)}; allowed "
-            f"{_len(tol, unit)} ({basis})",
-            "re-run the level loop back to the benchmark (check the backsight, the turning "
-            "points and the rod foot), then re-enter the readings",
-        )
-    ]
 
 
 # --------------------------------------------------------------------------------------- review
@@ -448,9 +334,12 @@ def review(
     xs, zs = x[order], z[order]
     cs = [codes[i] for i in order]
     rs = readings[order] if readings is not None else None
-    inner = duplicate_findings(xs, zs, cs, cfg)
-    twice = {f.station for f in inner if f.severity == "block"}  # one cause, one finding
-    inner += [f for f in spike_findings(xs, zs, cs, rs, cfg) if f.station not in twice]
+    close = _close_findings(xs, cfg.unit)
+    xs = snap_stations(xs)  # the checks below read them as one station
+    inner = close + [f for f in duplicate_findings(xs, zs, cs, cfg) if f.index not in
+                     {c.index for c in close}]  # fmt: skip
+    twice = {xs[f.index] for f in inner if f.severity == "block"}  # one cause, one finding
+    inner += [f for f in spike_findings(xs, zs, cs, rs, cfg) if xs[f.index] not in twice]
     if stage is not None:
         stage = float(stage)
         if not math.isfinite(stage):
@@ -474,3 +363,29 @@ def _sorted(findings: list[Finding]) -> list[Finding]:
         findings,
         key=lambda f: (_RANK[f.severity], far if f.station is None else f.station, f.kind),
     )
+
+
+POINT_KINDS = ("spike", "duplicate", "order", "line")
+"""Finding kinds about one reading: the ones that flag its station on a drawing or a table."""
+
+
+def flagged_stations(findings: Iterable) -> dict[float, str]:
+    """The stations the findings flag, each with the message of its most serious finding.
+
+    The one rule every screen and report follows: a ``block`` or ``warn`` finding about one
+    reading (:data:`POINT_KINDS`: a spike, a repeat, a station out of order, a reading the line
+    disagrees with) flags its station; findings about panels, edges or the whole survey do not.
+    ``findings`` may be :class:`Finding` objects or their dicts (:meth:`Finding.as_dict`).
+
+    >>> found = review(range(11), [2.0, 1.6, 1.3, 1.1, 1.0, 1.6, 1.0, 1.1, 1.3, 1.6, 2.0])
+    >>> list(flagged_stations(found))
+    [5.0]
+    """
+    rows = [f.as_dict() if isinstance(f, Finding) else f for f in findings]
+    rows.sort(key=lambda f: _RANK.get(f.get("severity"), len(_RANK)))
+    out: dict[float, str] = {}
+    for f in rows:
+        loud = f.get("severity") in ("block", "warn") and f.get("kind") in POINT_KINDS
+        if loud and f.get("station") is not None:
+            out.setdefault(f["station"], f.get("message", ""))
+    return out

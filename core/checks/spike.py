@@ -24,12 +24,13 @@ def _left_line(x: np.ndarray, z: np.ndarray):
     if x.size < 3:
         return pred, gain, slope
     base, reach = x[1:-1] - x[:-2], x[2:] - x[1:-1]
-    with np.errstate(divide="ignore", invalid="ignore"):
+    # a vertical face (base 0) gives no line: its inf and NaN are masked out by ``ok``
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         r = reach / base
         grade = (z[1:-1] - z[:-2]) / base
-    ok = (base > 0) & (reach > 0) & (r <= _MAX_REACH)
-    pred[2:] = np.where(ok, z[1:-1] + grade * reach, np.nan)
-    gain[2:] = np.sqrt(1 + (1 + r) ** 2 + r**2)  # weights 1 + r and -r on the two points
+        ok = (base > 0) & (reach > 0) & (r <= _MAX_REACH)
+        pred[2:] = np.where(ok, z[1:-1] + grade * reach, np.nan)
+        gain[2:] = np.sqrt(1 + (1 + r) ** 2 + r**2)  # weights 1 + r and -r on the two points
     slope[2:] = grade
     return pred, gain, slope
 

@@ -98,17 +98,17 @@ def point_array(values: Sequence[float], name: str, finite: bool = True) -> np.n
     return arr
 
 
-def _snapped(x: np.ndarray) -> np.ndarray:
-    """``x`` with every station closer than :attr:`Unit.RESOLUTION` to the one before it moved
-    onto it: no tape reads closer, so the two points are one station (a vertical face)."""
-    close = np.flatnonzero((np.diff(x) > 0) & (np.diff(x) < Unit.RESOLUTION))
-    if not close.size:
+def snap_stations(x: np.ndarray) -> np.ndarray:
+    """Sorted stations ``x`` with every one closer than :attr:`Unit.RESOLUTION` to the one before
+    it moved onto it: no tape reads closer, so the two points are one station (a vertical face).
+
+    >>> snap_stations(np.array([0.0, 1e-300, 2.0])).tolist()
+    [0.0, 0.0, 2.0]
+    """
+    starts = np.r_[True, np.diff(x) >= Unit.RESOLUTION]
+    if starts.all():
         return x
-    x = x.copy()
-    for i in close.tolist():
-        if x[i + 1] - x[i] < Unit.RESOLUTION:
-            x[i + 1] = x[i]
-    return x
+    return x[np.flatnonzero(starts)][np.cumsum(starts) - 1]
 
 
 def close_stations(x: np.ndarray) -> np.ndarray:
@@ -192,7 +192,7 @@ class Section:
                 index=i,
                 station=float(x[i]),
             )
-        x = _snapped(x)
+        x = snap_stations(x)
         self.stations = x
         self.elevations = z
         self.stations.flags.writeable = False

@@ -11,8 +11,10 @@ import math
 
 import numpy as np
 from stakeline.errors import SurveyError
+from stakeline.survey.figures import figure_unit
 from stakeline.survey.geometry import Section
-from stakeline.survey.hydraulics import figure_unit, flow_table, stage_for_discharge
+from stakeline.survey.hydraulics import flow_table, stage_for_discharge
+from stakeline.survey.numbers import parse_number
 
 RATING_COLUMNS = (
     "stage",
@@ -28,6 +30,44 @@ RATING_COLUMNS = (
 MAX_ROWS = 100_000
 
 
+def level_count(start: float, stop: float, step: float, what: str = "the step") -> int:
+    """How many levels ``start, start + step, ...`` up to ``stop`` holds (``stop`` itself
+    included when it falls on a step); a :class:`SurveyError` in plain numbers when that is more
+    than :data:`MAX_ROWS`.
+
+    >>> level_count(0.0, 1.0, 0.25)
+    5
+    >>> level_count(0.0, 1.0, 1e-300)
+    Traceback (most recent call last):
+    ...
+    stakeline.errors.SurveyError: too many levels: about 1e+300 asked for (at most 100,000); use a larger step
+    """
+    start = parse_number(start, "the lowest water level")
+    stop = parse_number(stop, "the highest water level")
+    step = parse_number(step, what, positive=True)
+    if not stop >= start:
+        raise SurveyError(f"the range of levels is empty: from {start:g} to {stop:g}")
+    with np.errstate(over="ignore"):
+        rows = (stop - start) / step
+    if not rows + 1 <= MAX_ROWS:
+        raise SurveyError(
+            f"too many levels: about {rows + 1:.3g} asked for (at most {MAX_ROWS:,}); use a "
+            "larger step"
+        )
+    return int(math.floor(rows + 1e-9)) + 1
+
+
+def stage_range(start: float, stop: float, step: float) -> np.ndarray:
+    """Water levels from ``start`` to ``stop`` inclusive every ``step`` (survey unit); at most
+    :data:`MAX_ROWS` of them.
+
+    >>> stage_range(1.0, 2.0, 0.5).tolist()
+    [1.0, 1.5, 2.0]
+    """
+    count = level_count(start, stop, step)
+    return float(start) + float(step) * np.arange(count)
+
+
 def rating_stages(
     section: Section, step: float, start: float | None = None, stop: float | None = None
 ) -> np.ndarray:
@@ -35,15 +75,12 @@ def rating_stages(
 
     ``stop`` defaults to the highest level the section holds; it is always included as the last row.
     """
-    lo = section.lowest if start is None else float(start)
-    hi = section.highest_stage if stop is None else float(stop)
-    if not (math.isfinite(step) and step > 0):
-        raise SurveyError(f"the rating step must be a positive number, got {step!r}")
+    lo = section.lowest if start is None else parse_number(start, "the lowest water level")
+    hi = section.highest_stage if stop is None else parse_number(stop, "the highest water level")
+    step = parse_number(step, "the rating step", positive=True)
     if not hi > lo:
         raise SurveyError(f"the rating range is empty: from {lo:g} to {hi:g}")
-    count = int(math.floor((hi - lo) / step + 1e-9)) + 1
-    if count > MAX_ROWS:
-        raise SurveyError(f"{count} rows asked for; use a larger step (at most {MAX_ROWS} rows)")
+    count = level_count(lo, hi, step, "the rating step")
     stages = lo + step * np.arange(count)
     if hi - stages[-1] > 1e-9 * max(1.0, abs(hi)):
         stages = np.append(stages, hi)

@@ -19,9 +19,11 @@ from collections.abc import Sequence
 
 import numpy as np
 from stakeline.errors import SurveyError
+from stakeline.survey.units import by_unit, unit_of
 
-UNITS = {"m": 1.0, "ft": 0.3048}
-"""Length units a survey may use, with metres per unit (international foot)."""
+UNITS = by_unit("metres")
+"""Length units a survey may use, with metres per unit (international foot); see
+:class:`stakeline.survey.units.Unit`."""
 
 ASSUMED_DATUM = 100.0
 """Elevation commonly assumed for a line or benchmark that is not tied to a known datum."""
@@ -29,14 +31,12 @@ ASSUMED_DATUM = 100.0
 
 def check_unit(unit: str) -> str:
     """Return ``unit`` if it is a survey length unit (``"m"`` or ``"ft"``), else raise SurveyError."""
-    if unit not in UNITS:
-        raise SurveyError(f"length unit {unit!r} is not supported; use 'm' or 'ft'")
-    return unit
+    return unit_of(unit).key
 
 
 def convert_length(value, from_unit: str, to_unit: str):
     """Convert lengths (scalar or array) between ``"m"`` and ``"ft"``."""
-    factor = UNITS[check_unit(from_unit)] / UNITS[check_unit(to_unit)]
+    factor = unit_of(from_unit).metres / unit_of(to_unit).metres
     if np.ndim(value) == 0:
         return float(value) * factor
     return np.asarray(value, dtype=float) * factor
