@@ -38,7 +38,7 @@ class OvertoppedError(SectionError):
         self.excess = stage - end_elevation
         from stakeline.survey.numbers import decimals_for  # shows a tiny excess as non-zero
 
-        d = decimals_for(self.excess)
+        d = decimals_for(self.excess, most=16)
         message = (
             f"water level {stage:.{d}f} is {self.excess:.{d}f} above the {side} end of the "
             f"section (point {index + 1}, station {station:g}, elevation {end_elevation:.{d}f}); "

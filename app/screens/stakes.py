@@ -48,7 +48,7 @@ class StakesScreen(KeypadScreen):
             ids[f"{side}_lon"].text = show_number(point[0] if point else None, 6)
             ids[f"{side}_lat"].text = show_number(point[1] if point else None, 6)
         self.activate(ids.line_left)
-        self.say(self.service.line_check(self.visit), "none")
+        self.say(self.service.line_check(self.visit).text, "none")
 
     def on_field_edited(self, _field) -> None:
         """Typing makes the form unsaved."""
@@ -105,7 +105,7 @@ class StakesScreen(KeypadScreen):
         verdict = self.attempt(self.service.save_stakes, self.visit, **fields)
         if verdict is None:
             return False
-        self.say("Saved. " + verdict, "flagged" if "OUTSIDE" in verdict else "saved")
+        self.say("Saved. " + verdict.text, "flagged" if verdict.within is False else "saved")
         return True
 
     def save_and_continue(self) -> None:

@@ -28,17 +28,14 @@ from stakeline.app.service.util import (  # noqa: F401  (re-exported for the scr
     uniform_stations,
 )
 from stakeline.errors import SurveyError
+from stakeline.survey.codes import CHIPS
+from stakeline.survey.datum import Datum
+from stakeline.survey.figures import figure_title
 from stakeline.survey.geometry import FIGURES, Section
-from stakeline.survey.reduction import ASSUMED_DATUM
 
-FEATURE_CODES = (
-    ("bank_top", "Bank top"),
-    ("toe", "Toe"),
-    ("water_edge", "Water's edge"),
-    ("deepest", "Deepest"),
-    ("bar", "Bar"),
-)
-"""Quick feature codes on the readings screen: (stored code, button text)."""
+FEATURE_CODES = tuple(CHIPS)
+"""Quick feature codes on the readings screen: (stored code, button text), from
+:data:`stakeline.survey.codes.CHIPS`."""
 
 POSITION_KEY = "field.position"
 """Setting that remembers the open visit and the station being read, for resuming after a crash."""
@@ -180,8 +177,8 @@ class FieldService(DeviceSettings, FieldChecks, OfficeFigures):
         out["section"], out["site"] = section["name"], section["site"]
         return out
 
-    def save_stakes(self, visit_uuid: str, **fields) -> str:
-        """Save the stakes screen; returns the line-level check verdict in plain words."""
+    def save_stakes(self, visit_uuid: str, **fields):
+        """Save the stakes screen; returns the line-level check verdict (see :meth:`line_check`)."""
         visit = self.store.visit(visit_uuid)
         section_keys = {
             "left_stake",
@@ -204,28 +201,14 @@ class FieldService(DeviceSettings, FieldChecks, OfficeFigures):
             self.store.update_visit(visit_uuid, **visit_fields)
         return self.line_check(visit_uuid)
 
-    def line_check(self, visit_uuid: str) -> str:
-        """The line-level check in words: how far the line heights and the check shot agree."""
+    def line_check(self, visit_uuid: str):
+        """The line-level check of the visit as a value
+        (:class:`stakeline.survey.datum.LineVerdict`: ``within``, ``difference``, ``tolerance``,
+        ``where``, ``text``), judged by the visit's datum with this device's tolerance -- the
+        same rule the field checks follow."""
         visit = self.store.visit(visit_uuid)
-        unit, tolerance = visit["unit"], self.check_settings(visit["unit"]).line_tolerance
-        if visit["method"] == "rod":
-            benchmark = visit["benchmark_elevation"]
-            benchmark = ASSUMED_DATUM if benchmark is None else benchmark
-            if visit["backsight"] is None:
-                return "Level and rod: type the backsight on the benchmark."
-            hi = benchmark + visit["backsight"]
-            return f"Level and rod: height of instrument {hi:.3f} {unit} (benchmark + backsight)."
-        left, right, check = visit["line_left"], visit["line_right"], visit["line_check"]
-        if left is None or right is None:
-            return f"Type the line elevation at both stakes (or assume {ASSUMED_DATUM:.3f})."
-        worst = abs(left - right)
-        if check is not None:
-            worst = max(worst, abs(check - (left + right) / 2))
-        verdict = "within" if worst <= tolerance else "OUTSIDE"
-        return (
-            f"Line check: the heights differ by up to {worst:.3f} {unit}, "
-            f"{verdict} the tolerance of {tolerance:.3f} {unit}."
-        )
+        tolerance = self.check_settings(visit["unit"]).line_tolerance
+        return Datum.from_visit(visit).line_check(visit["line_check"], tolerance=tolerance)
 
     # --- spacing ----------------------------------------------------------------------------
     def plan(self, visit_uuid: str) -> list[float]:
@@ -358,9 +341,11 @@ class FieldService(DeviceSettings, FieldChecks, OfficeFigures):
             return {"error": str(exc)}
 
     def water_level(self, visit_uuid: str) -> float | None:
-        """The latest water level recorded on the visit (survey unit), or ``None``."""
-        levels = self.store.visit(visit_uuid)["water_levels"]
-        return float(levels[-1]["elevation"]) if levels else None
+        """The visit's water level (survey unit): the mean of the levels recorded on it
+        (:func:`stakeline.analysis.visit_water_level`), or ``None`` when none was recorded."""
+        from stakeline.analysis import visit_water_level
+
+        return visit_water_level(self.store.visit(visit_uuid)["water_levels"])
 
     def record_water_level(self, visit_uuid: str, text: str) -> float:
         """Record the water level typed (or dragged) now; returns it (survey unit)."""
@@ -419,21 +404,8 @@ class FieldService(DeviceSettings, FieldChecks, OfficeFigures):
             on_done(self.write_package(visit_uuid))
 
 
-FIGURE_NAMES = dict(
-    zip(
-        FIGURES,
-        (
-            "Area",
-            "Wetted perimeter",
-            "Top width",
-            "Hydraulic radius",
-            "Hydraulic depth",
-            "Deepest water",
-        ),
-        strict=True,
-    )
-)
-"""Plain names of the figures shown on the section screen."""
+FIGURE_NAMES = {key: figure_title(key) for key in FIGURES}
+"""Plain names of the figures shown on the section screen (from :mod:`stakeline.survey.figures`)."""
 
 
 def open_service(folder: str, demo: bool = True) -> FieldService:

@@ -82,6 +82,15 @@ class FieldChecks:
         return findings
 
     @staticmethod
+    def flagged_stations(findings: list[dict]) -> dict[float, str]:
+        """The stations the findings flag, each with its most serious finding's message: the
+        one rule of :func:`stakeline.checks.flagged_stations` (block and warn findings about
+        one reading -- spike, duplicate, order, line)."""
+        from stakeline.checks import flagged_stations
+
+        return flagged_stations(findings)
+
+    @staticmethod
     def blocking(findings: list[dict]) -> list[dict]:
         """The ``block`` findings that have no written override."""
         return [f for f in findings if f["severity"] == "block" and not f.get("override")]

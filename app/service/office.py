@@ -1,12 +1,12 @@
 """Office figures of one visit for the section-detail screen, as a mixin of the field service.
 
 :class:`OfficeFigures` reads what a visit's figures need from the store on the UI thread (one
-quick read, :meth:`OfficeFigures.office_inputs`), then computes them off it
-(:meth:`OfficeFigures.office_figures_async`): wetted figures at a water level with their ±
-bands from the crew's reading precision, uniform-flow hydraulics for a chosen roughness row and
-energy slope with the discharge at the row's low and high n, the bankfull summary and the change
-since the section's earlier visit.  Everything is returned as plain values in the visit's unit,
-with the unit symbol beside every figure.
+quick read, :meth:`OfficeFigures.office_inputs`), then runs the one office analysis,
+:func:`stakeline.analysis.analyse_visit`, off it (:meth:`OfficeFigures.office_figures_async`)
+and formats its result for the screen: wetted figures with their ± bands, Manning's figures for
+a chosen roughness row and energy slope with the discharge at the row's low and high n, the
+bankfull summary and the change since the section's earlier visit.  The report and the command
+line show the same analysis, so the same numbers.  Every figure carries its unit symbol.
 """
 
 from __future__ import annotations
@@ -15,19 +15,14 @@ import math
 
 from stakeline.app.service.util import ServiceError, parse_number
 from stakeline.errors import SurveyError
+from stakeline.survey.figures import figure_title, figure_unit
 
 FIGURE_WORDS = {
-    "area": "Area",
-    "wetted_perimeter": "Wetted perimeter",
-    "top_width": "Top width",
-    "hydraulic_radius": "Hydraulic radius",
-    "discharge": "Discharge",
-    "velocity": "Mean velocity",
-    "froude": "Froude number",
-    "shear_stress": "Shear stress (γRS)",
-    "stream_power": "Unit stream power (γQS/T)",
-}
-"""Plain names of the office figures, keyed by the core's figure names."""
+    key: figure_title(key)
+    for key in ("area", "wetted_perimeter", "top_width", "hydraulic_radius", "discharge",
+                "velocity", "froude", "shear_stress", "stream_power")
+}  # fmt: skip
+"""Plain names of the office figures (from :mod:`stakeline.survey.figures`)."""
 
 ROUGHNESS_LABELS = {
     "clean-straight": "Clean, straight",
@@ -50,11 +45,9 @@ N_SENTENCE = (
 
 def _row(key: str, value: float, unit: str, plus_minus: float | None = None, **extra) -> dict:
     """One figure for the screen: name, value, its ± (or None) and the unit symbol."""
-    from stakeline.survey.hydraulics import figure_unit
-
     return {
         "key": key,
-        "name": extra.pop("name", FIGURE_WORDS.get(key, key.replace("_", " ").capitalize())),
+        "name": extra.pop("name", figure_title(key)),
         "value": float(value),
         "plus_minus": None if plus_minus is None else float(plus_minus),
         "unit": extra.pop("symbol", None) or figure_unit(key, unit),
@@ -87,15 +80,19 @@ class OfficeFigures:
     def office_inputs(self, visit_uuid: str) -> dict:
         """What the office figures of a visit need, read from the store (UI thread, quick).
 
-        Plain values in the visit's unit: the ground (stations, elevations, codes), the latest
-        recorded water level, the crew's ± of one reading and of one station from the device
-        settings (``precision``: [reading, station], converted to the visit's unit), and the
-        latest earlier visit of the section in the same unit (``earlier``: date, stations,
-        elevations) or None.  Reads the store (and stakeline.survey.uncertainty's default ±); the other
-        office modules are imported on the worker thread when the figures are first computed.
+        Plain values in the visit's unit: the ground (stations, elevations, codes), the visit's
+        water level (``recorded_level``: :func:`stakeline.analysis.visit_water_level`, the mean
+        of the levels recorded), the crew's ± of one reading and of one station from the device
+        settings (``precision``: [reading, station], converted to the visit's unit), the earlier
+        visit to compare (``earlier``: visit, date, stations, elevations, picked by
+        :func:`stakeline.analysis.earlier_visit`) or None, and ``no_ground``: why the visit has
+        no ground line yet (empty when it has one).
         """
+        from stakeline.survey.datum import Datum
+
         visit = self.store.visit(visit_uuid)
-        rows = [r for r in self.readings(visit_uuid) if r.get("elevation") is not None]
+        readings = self.readings(visit_uuid)
+        rows = [r for r in readings if r.get("elevation") is not None]
         return {
             "visit": visit_uuid,
             "unit": visit["unit"],
@@ -109,26 +106,23 @@ class OfficeFigures:
             "recorded_level": self.water_level(visit_uuid),
             "precision": list(self.plus_minus(visit["unit"])),
             "earlier": self._earlier_ground(visit),
+            "no_ground": Datum.from_visit(visit).missing if readings and not rows else "",
         }
 
     def _earlier_ground(self, visit: dict) -> dict | None:
-        """The section's latest visit before ``visit`` (earlier date, same unit) with a ground
-        line, as the office report picks it."""
-        earlier = [
-            v
-            for v in self.store.visits(visit["section_uuid"])
-            if v["date"] < visit["date"] and v["unit"] == visit["unit"]
-        ]
-        for other in reversed(earlier):
-            rows = [r for r in self.store.stations(other["uuid"]) if r.get("elevation") is not None]
-            if len(rows) >= 2:
-                return {
-                    "visit": other["uuid"],
-                    "date": other["date"],
-                    "stations": [r["station"] for r in rows],
-                    "elevations": [r["elevation"] for r in rows],
-                }
-        return None
+        """The earlier visit to compare with (:func:`stakeline.analysis.earlier_visit`)."""
+        from stakeline.analysis import earlier_visit
+
+        visits = self.store.visits(visit["section_uuid"])
+        found = earlier_visit(visit, visits, self.store.stations)
+        if found is None:
+            return None
+        return {
+            "visit": found["visit"]["uuid"],
+            "date": found["visit"]["date"],
+            "stations": [s["station"] for s in found["stations"]],
+            "elevations": [s["elevation"] for s in found["stations"]],
+        }
 
     @staticmethod
     def office_request(level_text: str, slope_text: str) -> tuple[float, float | None]:
@@ -153,34 +147,32 @@ class OfficeFigures:
     ) -> dict:
         """Every office figure at ``level`` (pure: safe on a worker thread).
 
-        Returns a dict: ``unit``, ``level``, ``geometry`` (rows with ± bands, linear
-        propagation), ``precision``; with a roughness row and a slope ``flow`` (rows),
-        ``roughness``, ``splits`` and ``n_range`` (Q at the row's low and high n), else
-        ``flow_note``; ``bankfull`` (rows and stage) or ``bankfull_note``; ``change`` (date,
-        rows) or ``change_note``.  ``error`` replaces the figures when the level
-        cannot be used.  Rows: dicts with ``name``, ``value``, ``plus_minus`` and ``unit``.
+        Runs :func:`stakeline.analysis.analyse_visit` (first-order ± bands) and returns a dict:
+        ``unit``, ``level``, ``geometry`` (rows with ± bands), ``precision``; with a roughness
+        row and a slope ``flow`` (rows), ``roughness``, ``slope``, ``splits`` and ``n_range``
+        (Q at the row's low and high n), else ``flow_note``; ``bankfull`` (rows and stage) or
+        ``bankfull_note``; ``change`` (date, rows) or ``change_note``.  ``error`` replaces the
+        figures when the level cannot be used.  Rows: dicts with ``name``, ``value``,
+        ``plus_minus`` and ``unit``.
         """
-        from stakeline.survey.geometry import Section
-        from stakeline.survey.uncertainty import Precision, geometry_bands
-
         unit = inputs["unit"]
         out = {"unit": unit, "level": float(level)}
         if len(inputs["stations"]) < 2:
-            return {**out, "error": "The visit has fewer than two readings: nothing to show."}
-        section = Section(inputs["stations"], inputs["elevations"])
-        given = inputs.get("precision")
-        precision = Precision(*given) if given else Precision.default(unit)
-        out["precision"] = {"reading": precision.reading, "station": precision.station}
+            why = inputs.get("no_ground") or "The visit has fewer than two readings"
+            return {**out, "error": f"{why[:1].upper()}{why[1:]}: nothing to show."}
         try:
-            bands = geometry_bands(section, float(level), precision, method="linear")
+            result = analyse_inputs(inputs, level, roughness_key, slope)
         except SurveyError as exc:
             return {**out, "error": str(exc)}
+        precision = result.precision
+        out["precision"] = {"reading": precision.reading, "station": precision.station}
         out["geometry"] = [
-            _row(name, band.value, unit, band.plus_minus) for name, band in bands.items()
+            _row(name, result.bands[name].value, unit, result.bands[name].plus_minus)
+            for name in ("area", "wetted_perimeter", "top_width", "hydraulic_radius")
         ]
-        _flow(out, inputs, section, float(level), roughness_key, slope, precision)
-        _bankfull(out, inputs, section)
-        _change(out, inputs, section, float(level))
+        _flow(out, result, roughness_key, slope)
+        _bankfull(out, result)
+        _change(out, result, inputs)
         return out
 
     def office_figures_async(
@@ -200,14 +192,37 @@ class OfficeFigures:
         )
 
 
-def _flow(out: dict, inputs: dict, section, level, roughness_key, slope, precision) -> None:
-    """Manning's figures for the chosen roughness row and slope, split at the bank tops."""
-    from stakeline.survey.hydraulics import bank_top_splits, flow_at
-    from stakeline.survey.roughness import SOURCE, roughness
-    from stakeline.survey.uncertainty import discharge_band, discharge_for_roughness
+def analyse_inputs(inputs: dict, level: float, roughness_key: str | None, slope: float | None):
+    """:func:`stakeline.analysis.analyse_visit` on :meth:`OfficeFigures.office_inputs` at the
+    typed ``level`` with the chosen roughness row and slope (the crew's ± from the settings)."""
+    from stakeline.analysis import AnalysisOptions, analyse_visit
+    from stakeline.survey.uncertainty import Precision
 
-    unit = inputs["unit"]
-    if roughness_key is None or slope is None:
+    stations = [
+        {"station": x, "elevation": z, "code": c}
+        for x, z, c in zip(inputs["stations"], inputs["elevations"], inputs["codes"], strict=True)
+    ]
+    given = inputs.get("precision")
+    options = AnalysisOptions(
+        stage=level,
+        roughness=roughness_key,
+        slope=slope,
+        precision=Precision(*given) if given else None,
+    )
+    earlier = inputs.get("earlier")
+    if earlier:
+        before = [{"station": x, "elevation": z} for x, z in
+                  zip(earlier["stations"], earlier["elevations"], strict=True)]  # fmt: skip
+        earlier = {"visit": {"uuid": earlier["visit"], "date": earlier["date"]}, "stations": before}
+    return analyse_visit({"unit": inputs["unit"]}, stations, options, earlier)
+
+
+def _flow(out: dict, result, roughness_key, slope) -> None:
+    """Manning's figures for the chosen roughness row and slope, split at the bank tops."""
+    from stakeline.survey.roughness import SOURCE
+
+    unit = result.unit
+    if result.flow is None:
         missing = [
             what
             for what, value in (
@@ -218,7 +233,7 @@ def _flow(out: dict, inputs: dict, section, level, roughness_key, slope, precisi
         ]
         out["flow_note"] = " and ".join(missing).capitalize() + " to see the discharge."
         return
-    row = roughness(roughness_key)
+    row, flow = result.row, result.flow
     out["roughness"] = {
         "key": row.key,
         "description": row.description,
@@ -227,134 +242,65 @@ def _flow(out: dict, inputs: dict, section, level, roughness_key, slope, precisi
         "maximum": row.maximum,
         "source": SOURCE,
     }
-    out["slope"] = slope
-    splits = bank_top_splits(section.stations, section.elevations, inputs["codes"])
-    n = [row.normal] * (len(splits) + 1) if splits else row.normal
-    try:
-        flow = flow_at(section, level, n, slope, unit, splits or None)
-        band = discharge_band(section, level, n, slope, unit, precision, splits or None)
-        spread = discharge_for_roughness(section, level, row, slope, unit, splits or None)
-    except SurveyError as exc:
-        out["flow_note"] = str(exc)
-        return
-    out["splits"] = splits
-    out["flow"] = [_row("discharge", flow.discharge, unit, band.plus_minus)] + [
-        _row(name, getattr(flow, name), unit)
+    out["slope"] = result.slope
+    out["splits"] = result.splits
+    band = result.bands["discharge"]
+    out["flow"] = [_row("discharge", flow["discharge"], unit, band.plus_minus)] + [
+        _row(name, flow[name], unit)
         for name in ("velocity", "froude", "shear_stress", "stream_power")
     ]
     out["n_range"] = {
         "low_n": row.minimum,
         "high_n": row.maximum,
-        "discharge_low_n": spread["minimum"],
-        "discharge_high_n": spread["maximum"],
+        "discharge_low_n": result.n_range["minimum"],
+        "discharge_high_n": result.n_range["maximum"],
         "unit": out["flow"][0]["unit"],
         "sentence": N_SENTENCE,
     }
 
 
-def _bankfull(out: dict, inputs: dict, section) -> None:
+def _bankfull(out: dict, result) -> None:
     """Bankfull summary at the lower bank top either side of the deepest point, if coded."""
-    from stakeline.survey.hydraulics import bankfull_stage, bankfull_summary
-
-    unit = inputs["unit"]
-    stage = bankfull_stage(section.stations, section.elevations, inputs["codes"])
-    if stage is None:
-        out["bankfull_note"] = (
-            "No bank top coded on both sides of the deepest point: code the bank tops on the "
-            "readings screen to see the bankfull summary."
+    unit, summary = result.unit, result.bankfull
+    if summary is None:
+        out["bankfull_note"] = result.bankfull_note.replace(
+            "code the bank tops", "code the bank tops on the readings screen"
         )
-        return
-    try:
-        summary = bankfull_summary(section, stage)
-    except SurveyError as exc:
-        out["bankfull_note"] = str(exc)
         return
     ratio = summary["width_depth_ratio"]
     out["bankfull"] = {
-        "stage": stage,
+        "stage": summary["stage"],
         "rows": [
-            _row("stage", stage, unit, name="Bankfull level (lower bank top)"),
+            _row("stage", summary["stage"], unit, name="Bankfull level (lower bank top)"),
             _row("width", summary["width"], unit, name="Bankfull width"),
             _row("mean_depth", summary["mean_depth"], unit, name="Mean depth (A/T)"),
             _row("max_depth", summary["max_depth"], unit, name="Maximum depth"),
-            _row(
-                "width_depth_ratio",
-                ratio if math.isfinite(ratio) else 0.0,
-                unit,
-                name="Width/depth ratio",
-            ),
+            _row("width_depth_ratio", ratio if math.isfinite(ratio) else 0.0, unit),
             _row("area", summary["area"], unit, name="Bankfull area"),
         ],
     }
 
 
-def _change(out: dict, inputs: dict, section, level: float) -> None:
+def _change(out: dict, result, inputs: dict) -> None:
     """Scour, fill and the deepest point's move since the section's earlier visit."""
-    from stakeline.survey.compare import compare_visits
-    from stakeline.survey.geometry import Section
-
-    earlier = inputs.get("earlier")
-    if not earlier:
-        out["change_note"] = "No earlier visit of this section in the same unit to compare with."
-        return
-    unit = inputs["unit"]
-    before = Section(earlier["stations"], earlier["elevations"])
-    stage = level if level <= min(before.highest_stage, section.highest_stage) else None
-    try:
-        change = compare_visits(before, section, stage)
-    except SurveyError as exc:
-        out["change_note"] = str(exc)
+    change, unit = result.comparison, result.unit
+    if change is None:
+        out["change_note"] = result.comparison_note or (
+            "No earlier visit of this section in the same unit to compare with."
+        )
         return
     rows = [
-        _row(
-            "scour_area", change["scour_area"], unit, symbol=f"{unit}²", name="Scour (bed lowered)"
-        ),
-        _row("fill_area", change["fill_area"], unit, symbol=f"{unit}²", name="Fill (bed raised)"),
-        _row(
-            "net_change",
-            change["net_change"],
-            unit,
-            symbol=f"{unit}²",
-            signed=True,
-            name="Net change (fill - scour)",
-        ),
-        _row(
-            "deepest_shift",
-            change["deepest_shift"],
-            unit,
-            signed=True,
-            name="Deepest point moved along the tape",
-        ),
-        _row(
-            "deepest_change",
-            -change["deepest_drop"],
-            unit,
-            signed=True,
-            name="Deepest bed elevation change",
-        ),
+        _row("scour_area", change["scour_area"], unit),
+        _row("fill_area", change["fill_area"], unit),
+        _row("net_change", change["net_change"], unit, signed=True),
+        _row("deepest_shift", change["deepest_shift"], unit, signed=True),
+        _row("deepest_change", -change["deepest_drop"], unit, signed=True),
     ]
-    if stage is not None:
-        rows.append(
-            _row(
-                "area_change",
-                change["area_change"],
-                unit,
-                symbol=f"{unit}²",
-                signed=True,
-                name="Wetted area change at this level",
-            )
-        )
-        rows.append(
-            _row(
-                "top_width_change",
-                change["top_width_change"],
-                unit,
-                signed=True,
-                name="Top width change at this level",
-            )
-        )
+    if "area_change" in change:
+        rows.append(_row("area_change", change["area_change"], unit, signed=True))
+        rows.append(_row("top_width_change", change["top_width_change"], unit, signed=True))
     out["change"] = {
-        "date": earlier["date"],
+        "date": inputs["earlier"]["date"],
         "start": change["start"],
         "end": change["end"],
         "rows": rows,

@@ -9,9 +9,8 @@ the device's unit; the ± follow a change of unit by conversion
 
 from __future__ import annotations
 
-import math
-
 from stakeline.app.service.util import ServiceError
+from stakeline.survey.numbers import parse_number
 
 DEFAULT_SETTINGS = {
     "unit": "m",
@@ -93,13 +92,7 @@ def _checked_setting(key: str, value):
         raise ServiceError(f"length unit {value!r} is not m or ft")
     words = key.replace("_plus_minus", " ±").replace("_", " ")
     if key in ("precision", "line_tolerance", *PLUS_MINUS_KEYS) and value is not None:
-        try:
-            number = float(value)
-        except (TypeError, ValueError):
-            raise ServiceError(f"{words} must be a number, got {value!r}") from None
-        if not (math.isfinite(number) and number > 0):
-            raise ServiceError(f"{words} must be greater than zero")
-        return number
+        return parse_number(value, words, positive=True, error=ServiceError)
     if key == "min_wetted_stations" and int(value) < 2:
         raise ServiceError("minimum stations across the water must be at least 2")
     return value

@@ -14,21 +14,27 @@ import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.backends.backend_pdf import PdfPages
 from matplotlib.figure import Figure
+from stakeline.report.plots import (  # noqa: F401  (write_*: their old home)
+    FLAG_COLOUR,
+    FOOTER,
+    overlay_plot,
+    section_plot,
+    write_overlay_plot,
+    write_rating_plot,
+)
 from stakeline.report.prepare import CAUTIONS, ReportData
-from stakeline.survey.compare import profile_panels
-from stakeline.survey.hydraulics import figure_unit
+from stakeline.survey.figures import FIGURE_TABLE, figure_label, figure_unit
 from stakeline.survey.rating import RATING_COLUMNS
 from stakeline.survey.roughness import SOURCE
+from stakeline.survey.units import unit_of
 
 A4 = (8.27, 11.69)
 STATIONS_PER_PAGE = 48
 RATING_ROWS = 28
-FLAG_COLOUR = "#c0392b"
-WATER_COLOUR = "#5dade2"
-FOOTER = (
-    "Estimates for field and office checking, not a design. Designs and safety decisions need "
-    "licensed review under local codes."
-)
+METHOD_WORDS = {
+    "linear": "first-order propagation with exact sensitivities (JCGM 100:2008)",
+    "monte-carlo": "Monte Carlo with a fixed seed",
+}
 
 
 def draw_pages(data: ReportData) -> list[Figure]:
@@ -112,113 +118,32 @@ def _paragraph(
     return top - len(lines) * size * 1.45 / (A4[1] * 72) - 0.01
 
 
-def _section_plot(ax, data: ReportData) -> None:
-    x = np.array([s["station"] for s in data.stations])
-    z = np.array([s["elevation"] for s in data.stations])
-    if data.previous is not None:
-        px = [s["station"] for s in data.previous["stations"]]
-        pz = [s["elevation"] for s in data.previous["stations"]]
-        ax.plot(
-            px,
-            pz,
-            "--",
-            color="0.55",
-            lw=1,
-            label=f"ground {data.previous['visit'].get('date', 'before')}",
-        )
-    if data.stage is not None:
-        ax.fill_between(
-            x,
-            z,
-            data.stage,
-            where=z < data.stage,
-            interpolate=True,
-            color=WATER_COLOUR,
-            alpha=0.5,
-            lw=0,
-        )
-        ax.axhline(
-            data.stage, color="#1f618d", lw=1, label=f"water level {data.stage:.3f} {data.unit}"
-        )
-    ax.plot(x, z, "-o", color="#4a3520", ms=3, lw=1.2, label="ground (this visit)")
-    flagged = np.isin(x, data.flagged)
-    if flagged.any():
-        ax.plot(x[flagged], z[flagged], "X", color=FLAG_COLOUR, ms=9, label="flagged station")
-    if data.bankfull is not None:
-        ax.axhline(
-            data.bankfull["stage"],
-            color="#a04000",
-            ls=":",
-            lw=1.2,
-            label=f"bankfull {data.bankfull['stage']:.3f} {data.unit}",
-        )
-    for k, s in enumerate(data.splits):
-        ax.axvline(s, color="0.3", ls="-.", lw=0.9, label="subsection split" if k == 0 else None)
-    if data.subsections:
-        edges = [x[0], *data.splits, x[-1]]
-        for part, a, b in zip(data.subsections, edges, edges[1:], strict=False):
-            if b - a < 0.12 * (x[-1] - x[0]):
-                continue  # too narrow to label; the table on page 2 names every subsection
-            ax.text(
-                (a + b) / 2,
-                0.97,
-                f"{part['name']}\nn = {part['n']:.3f}",
-                transform=ax.get_xaxis_transform(),
-                ha="center",
-                va="top",
-                fontsize=7,
-            )
-    for s in data.stations:
-        if s.get("code"):
-            ax.annotate(
-                s["code"].replace("_", " "),
-                (s["station"], s["elevation"]),
-                xytext=(0, -11),
-                textcoords="offset points",
-                fontsize=5.5,
-                ha="center",
-                color="0.35",
-            )
-    ax.set_xlabel(f"station from the {data.visit.get('origin') or 'left'} stake ({data.unit})")
-    ax.set_ylabel(f"elevation ({data.unit})")
-    ax.grid(alpha=0.3)
-    ax.legend(fontsize=7, loc="best")
-
-
 def _figure_rows(data: ReportData) -> list[list[str]]:
     unit, rows = data.unit, []
     if data.stage is None:
         return rows
-    rows.append(["water level", f"{data.stage:.3f}", "", unit])
-    for name, label in (
-        ("area", "wetted area"),
-        ("wetted_perimeter", "wetted perimeter"),
-        ("top_width", "top width"),
-        ("hydraulic_radius", "hydraulic radius"),
-    ):
+    rows.append([figure_label("stage"), f"{data.stage:.3f}", "", unit])
+    for name in ("area", "wetted_perimeter", "top_width", "hydraulic_radius"):
         band = data.bands.get(name)
         if band is not None:
-            rows.append([label, f"{band.value:.3f}", f"± {band.plus_minus:.3f}", _u(name, unit)])
+            rows.append(
+                [_label(name), f"{band.value:.3f}", f"± {band.plus_minus:.3f}", _u(name, unit)]
+            )
     flow = data.flow
     if flow is None:
         return rows
-    q = data.bands.get("discharge")
-    rows += [
-        ["hydraulic depth A/T", f"{flow['hydraulic_depth']:.3f}", "", unit],
-        ["deepest water", f"{flow['max_depth']:.3f}", "", unit],
-        [
-            "discharge Q",
-            f"{flow['discharge']:.3f}",
-            f"± {q.plus_minus:.3f}" if q else "",
-            _u("discharge", unit),
-        ],
-        ["mean velocity Q/A", f"{flow['velocity']:.3f}", "", _u("velocity", unit)],
-        ["conveyance K = Q/√S", f"{flow['conveyance']:.3f}", "", _u("conveyance", unit)],
-        ["Froude number V/√(gD)", f"{flow['froude']:.3f}", "", "—"],
-        ["shear stress γRS", f"{flow['shear_stress']:.3f}", "", _u("shear_stress", unit)],
-        ["unit stream power γQS/T", f"{flow['stream_power']:.3f}", "", _u("stream_power", unit)],
-    ]
+    for name in ("hydraulic_depth", "max_depth", "discharge", "velocity", "conveyance", "froude",
+                 "shear_stress", "stream_power"):  # fmt: skip
+        band = data.bands.get(name) if name == "discharge" else None
+        spread = f"± {band.plus_minus:.3f}" if band else ""
+        rows.append([_label(name), f"{flow[name]:.3f}", spread, _u(name, unit) or "—"])
     return rows
+
+
+def _label(name: str) -> str:
+    """A figure's label with its formula, from the one table of figure names."""
+    formula = FIGURE_TABLE[name].formula
+    return f"{figure_label(name)} {formula}" if formula and len(formula) > 1 else figure_label(name)
 
 
 def _roughness_text(data: ReportData) -> str:
@@ -234,7 +159,7 @@ def _roughness_text(data: ReportData) -> str:
         else ", ".join(f"{v:.3f}" for v in data.n_values)
     )
     lines = [
-        f"Manning's n = {n}   ·   energy slope S = {data.slope:g}   ·   k = {'1' if data.unit == 'm' else '1.486'}"
+        f"Manning's n = {n}   ·   energy slope S = {data.slope:g}   ·   k = {unit_of(data.unit).manning_k:g}"
     ]
     if data.row is not None:
         lines.append(
@@ -267,18 +192,23 @@ def _summary_page(data: ReportData) -> Figure:
         f"{w['elevation']:.3f} ({w.get('time') or 'no time'})" for w in data.water_levels
     )
     info = f"Water levels read ({data.unit}): {levels or 'none read'}"
+    if data.stage is not None:
+        info += f"; figures at {data.stage:.3f}, {data.stage_source or 'the water level given'}"
+    for note in data.notes:
+        info += f"\n{note}"
     if data.visit.get("notes"):
         info += f"\nNotes: {data.visit['notes']}"
     _paragraph(fig, 0.925, info, 8)
-    _section_plot(fig.add_axes((0.1, 0.57, 0.85, 0.3)), data)
+    section_plot(fig.add_axes((0.1, 0.57, 0.85, 0.3)), data)
     p = data.precision
     top = _heading(fig, 0.525, "Figures at the water level")
     top = _paragraph(
         fig,
         top,
         f"± is the expanded uncertainty (k = 2, about 95 %) from the readings alone: reading "
-        f"± {p.reading:g} {data.unit}, station ± {p.station:g} {data.unit}, Monte Carlo with a "
-        "fixed seed.",
+        f"± {p.reading:g} {data.unit}, station ± {p.station:g} {data.unit}, "
+        + METHOD_WORDS.get(data.method, data.method)
+        + ".",
         7.2,
     )
     top = _table(
@@ -379,36 +309,6 @@ def _comparison_page(data: ReportData) -> Figure:
     return fig
 
 
-def overlay_plot(ax, before: list[dict], after: list[dict], unit: str, labels=("before", "after")):
-    """Both ground lines on ``ax`` with scour shaded red and fill blue; axes labelled in ``unit``."""
-    bx, bz = [s["station"] for s in before], [s["elevation"] for s in before]
-    nx, nz = [s["station"] for s in after], [s["elevation"] for s in after]
-    left, right, b0, b1, a0, a1 = profile_panels(bx, bz, nx, nz)
-    xs = np.column_stack([left, right]).ravel()
-    base, now = np.column_stack([b0, b1]).ravel(), np.column_stack([a0, a1]).ravel()
-    for where, colour, label in (
-        (now < base, FLAG_COLOUR, "scour"),
-        (now > base, "#2e86c1", "fill"),
-    ):
-        ax.fill_between(
-            xs,
-            base,
-            now,
-            where=where,
-            interpolate=True,
-            color=colour,
-            alpha=0.45,
-            lw=0,
-            label=label,
-        )
-    ax.plot(bx, bz, "--", color="0.45", lw=1, label=f"ground {labels[0]}")
-    ax.plot(nx, nz, "-", color="#4a3520", lw=1.2, label=f"ground {labels[1]}")
-    ax.set_xlabel(f"station ({unit})")
-    ax.set_ylabel(f"elevation ({unit})")
-    ax.grid(alpha=0.3)
-    ax.legend(fontsize=7)
-
-
 def _comparison_rows(data: ReportData) -> list[list[str]]:
     c, unit, area = data.comparison, data.unit, _u("area", data.unit)
     rows = [
@@ -501,40 +401,3 @@ def _findings(fig: Figure, data: ReportData, top: float) -> None:
 
 def _clip(text: str, width: int) -> str:
     return text if len(text) <= width else text[: width - 1] + "…"
-
-
-def _single_plot(path, title: str, draw) -> Path:
-    from stakeline.errors import SurveyError
-
-    path = Path(path)
-    if path.suffix.lower() not in (".png", ".pdf"):
-        raise SurveyError(f"{path}: a plot is written as .png or .pdf")
-    fig = Figure(figsize=(7, 5))
-    FigureCanvasAgg(fig)
-    ax = fig.add_axes((0.12, 0.12, 0.83, 0.76))
-    draw(ax)
-    ax.set_title(title, fontsize=10)
-    fig.text(0.5, 0.015, FOOTER, ha="center", fontsize=6.5, style="italic")
-    try:
-        fig.savefig(path)
-    except OSError as exc:
-        raise SurveyError(f"{path}: cannot be written ({exc.strerror or exc})") from None
-    return path
-
-
-def write_rating_plot(table: dict, unit: str, title: str, path) -> Path:
-    """Plot a rating curve (water level against discharge, with units) to ``.png`` or ``.pdf``."""
-
-    def draw(ax):
-        ax.plot(table["discharge"], table["stage"], "-", color="#1f618d")
-        ax.set_xlabel(f"discharge ({_u('discharge', unit)})")
-        ax.set_ylabel(f"water level ({unit})")
-        ax.grid(alpha=0.3)
-
-    return _single_plot(path, title, draw)
-
-
-def write_overlay_plot(before: list[dict], after: list[dict], unit: str, labels, path) -> Path:
-    """Plot two visits' ground lines with scour and fill shaded to ``.png`` or ``.pdf``."""
-    title = f"change from {labels[0]} to {labels[1]}"
-    return _single_plot(path, title, lambda ax: overlay_plot(ax, before, after, unit, labels))

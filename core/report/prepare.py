@@ -1,38 +1,22 @@
-"""Office report of one visit: the analysis gathered into plain data, then drawn with matplotlib.
+"""Office report of one visit: the office analysis gathered into plain data, then drawn.
 
-:func:`prepare_report` takes plain data (the visit's stations and metadata, as the store returns
-them) and :class:`ReportOptions`, and runs the office analysis: hydraulics at the water level with
-uncertainty bands, discharge at the low and high n of the roughness row, the rating table, the
-bankfull summary and the change since an earlier visit.  :func:`write_report` draws the result to
-a PDF (several A4 pages) or a PNG (the same pages one under the other).  Agg backend, no display.
+:func:`prepare_report` runs :func:`stakeline.analysis.analyse_visit` -- the one office analysis
+the tablet and the command line show too -- and adds what only a report carries (title, field
+findings, overrides, flagged stations).  :func:`write_report` draws the result to a PDF
+(several A4 pages) or a PNG (the same pages one under the other).  Agg backend, no display.
 """
 
 from __future__ import annotations
 
-import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
-import numpy as np
+from stakeline.analysis import AnalysisOptions, analyse_visit, nice_step  # noqa: F401
+from stakeline.checks.review import flagged_stations
 from stakeline.errors import SurveyError
-from stakeline.survey.compare import compare_visits
-from stakeline.survey.geometry import Section
-from stakeline.survey.hydraulics import (
-    CompoundSection,
-    bank_top_splits,
-    bankfull_stage,
-    bankfull_summary,
-    flow_at,
-)
-from stakeline.survey.rating import rating_stages, rating_table
-from stakeline.survey.roughness import RoughnessRow, roughness, row_for_n
-from stakeline.survey.uncertainty import (
-    Precision,
-    discharge_band,
-    discharge_for_roughness,
-    geometry_bands,
-)
+from stakeline.survey.roughness import RoughnessRow
+from stakeline.survey.uncertainty import Precision
 
 CAUTIONS = (
     "Every figure here is an estimate for field and office checking. Designs and safety "
@@ -47,25 +31,9 @@ CAUTIONS = (
 """Cautions printed in every report."""
 
 
-@dataclass(frozen=True)
-class ReportOptions:
-    """Analysis choices for a report; lengths in the survey unit, slope dimensionless.
-
-    ``n`` (typed) or ``roughness`` (a key of :data:`stakeline.survey.roughness.ROUGHNESS`) gives the main
-    channel's Manning's n; ``n_overbank`` that of the overbanks (default: the same).  ``splits``
-    are subsection stations (default: the interior bank tops).  ``stage`` defaults to the mean of
-    the water levels read; ``bankfull`` to the lower bank top.
-    """
-
-    stage: float | None = None
-    n: float | None = None
-    roughness: str | None = None
-    n_overbank: float | None = None
-    slope: float | None = None
-    splits: tuple[float, ...] | None = None
-    bankfull: float | None = None
-    precision: Precision | None = None
-    rating_step: float | None = None
+ReportOptions = AnalysisOptions
+"""Analysis choices for a report: :class:`stakeline.analysis.AnalysisOptions` (the water level
+defaults to the mean of the levels read, bankfull to the lower bank top)."""
 
 
 @dataclass
@@ -95,40 +63,9 @@ class ReportData:
     previous: dict | None = None
     precision: Precision | None = None
     missing: list[str] = field(default_factory=list)
-
-
-def nice_step(span: float, rows: int = 25) -> float:
-    """A round step (1, 2, 2.5 or 5 × 10^k) giving about ``rows`` rows over ``span``.
-
-    >>> nice_step(1.44), nice_step(30.0)
-    (0.1, 2.0)
-    """
-    raw = max(span, 1e-9) / rows
-    power = 10.0 ** math.floor(math.log10(raw))
-    for m in (1.0, 2.0, 2.5, 5.0, 10.0):
-        if m * power >= raw:
-            return round(m * power, 12)
-    return 10 * power
-
-
-def _section_of(stations: Sequence[dict]) -> Section:
-    return Section([s["station"] for s in stations], [s["elevation"] for s in stations])
-
-
-def _choose_n(options: ReportOptions) -> tuple[float | None, RoughnessRow | None]:
-    if options.roughness:
-        row = roughness(options.roughness)
-        return (row.normal if options.n is None else float(options.n)), row
-    if options.n is None:
-        return None, None
-    return float(options.n), row_for_n(options.n)
-
-
-def _stage(options: ReportOptions, water_levels: Sequence[dict]) -> float | None:
-    if options.stage is not None:
-        return float(options.stage)
-    levels = [float(w["elevation"]) for w in water_levels if w.get("elevation") is not None]
-    return float(np.mean(levels)) if levels else None
+    notes: list[str] = field(default_factory=list)
+    method: str = "linear"
+    stage_source: str = ""
 
 
 def prepare_report(
@@ -143,119 +80,41 @@ def prepare_report(
 
     ``visit`` is the store's visit dict (site, section, date, crew, unit, water_levels, notes);
     ``stations`` its station dicts (station, reading, elevation, code, note); ``previous`` an
-    earlier visit of the same section as ``{"visit": dict, "stations": list}`` for comparison.
-    ``findings`` of None means the field checks could not be run (the report says so).
+    earlier visit of the same section as ``{"visit": dict, "stations": list}`` for comparison
+    (see :func:`stakeline.analysis.earlier_visit`).  ``findings`` of None means the field checks
+    could not be run (the report says so); flagged stations follow
+    :func:`stakeline.checks.flagged_stations`.
     """
-    live = [s for s in stations if not s.get("removed")]
-    if len(live) < 2:
-        raise SurveyError("the visit has fewer than 2 stations; nothing to report")
-    unit = visit.get("unit", "m")
-    section = _section_of(live)
-    codes = [s.get("code", "") or "" for s in live]
-    data = ReportData(
+    result = analyse_visit(visit, stations, options, previous)
+    notes = [n for n in (result.bankfull_note, result.comparison_note if previous else "") if n]
+    return ReportData(
         title=f"{visit.get('site', '')} — {visit.get('section', '')}",
-        unit=unit,
+        unit=result.unit,
         visit=visit,
-        stations=live,
-        stage=_stage(options, visit.get("water_levels", [])),
+        stations=result.stations,
+        stage=result.stage,
         water_levels=list(visit.get("water_levels", [])),
         findings=None if findings is None else list(findings),
         overrides=list(overrides),
-        precision=options.precision or Precision.default(unit),
+        flagged=sorted(flagged_stations(findings or [])),
+        splits=result.splits,
+        subsections=result.subsections,
+        n_values=result.n_values,
+        row=result.row,
+        slope=result.slope,
+        flow=result.flow,
+        bands=result.bands,
+        n_range=result.n_range,
+        rating=result.rating,
+        bankfull=result.bankfull,
+        comparison=result.comparison,
+        previous=result.previous,
+        precision=result.precision,
+        missing=list(result.missing),
+        notes=notes,
+        method=result.method,
+        stage_source=result.stage_source,
     )
-    data.flagged = sorted(
-        {
-            float(f["station"])
-            for f in findings
-            if f.get("station") is not None and f.get("severity") in ("block", "warn")
-        }
-    )
-    data.splits = (
-        list(options.splits)
-        if options.splits is not None
-        else bank_top_splits(section.stations, section.elevations, codes)
-    )
-    n, data.row = _choose_n(options)
-    data.slope = options.slope
-    if n is None:
-        data.missing.append("Manning's n (give --n or --roughness)")
-    if options.slope is None:
-        data.missing.append("energy slope (give --slope)")
-    if data.stage is None:
-        data.missing.append("water level (none read; give --stage)")
-    _hydraulics(data, section, n, options)
-    _rating_and_bankfull(data, section, codes, n, options)
-    if previous:
-        _comparison(data, section, previous)
-    return data
-
-
-def _hydraulics(
-    data: ReportData, section: Section, n: float | None, options: ReportOptions
-) -> None:
-    if data.stage is None:
-        return
-    data.bands = geometry_bands(section, data.stage, data.precision)
-    if n is None or data.slope is None:
-        return
-    overbank = float(options.n_overbank) if options.n_overbank is not None else n
-    if data.splits:
-        compound = CompoundSection(section, data.splits, [n] * (len(data.splits) + 1))
-        names = compound.names()
-        data.n_values = [n if name == "main channel" else overbank for name in names]
-        parts = CompoundSection(section, data.splits, data.n_values).table(data.stage, data.unit)[
-            "parts"
-        ]
-        data.subsections = [
-            {"name": name, "n": nv, **{k: float(v) for k, v in part.items()}}
-            for name, nv, part in zip(names, data.n_values, parts, strict=True)
-        ]
-    else:
-        data.n_values = [n]
-    arg = data.n_values if data.splits else n
-    data.flow = flow_at(
-        section, data.stage, arg, data.slope, data.unit, data.splits or None
-    ).as_dict()
-    data.bands["discharge"] = discharge_band(
-        section, data.stage, arg, data.slope, data.unit, data.precision, data.splits or None
-    )
-    if data.row is not None:
-        data.n_range = discharge_for_roughness(
-            section, data.stage, data.row, data.slope, data.unit, data.splits or None, data.n_values
-        )
-
-
-def _rating_and_bankfull(
-    data: ReportData, section: Section, codes, n, options: ReportOptions
-) -> None:
-    stage = (
-        options.bankfull
-        if options.bankfull is not None
-        else bankfull_stage(section.stations, section.elevations, codes)
-    )
-    if stage is not None:
-        data.bankfull = bankfull_summary(section, stage)
-    step = options.rating_step or nice_step(section.highest_stage - section.lowest)
-    start = math.ceil(section.lowest / step) * step
-    stages = rating_stages(section, step, start if start < section.highest_stage else None)
-    if n is not None and data.slope is not None:
-        arg = data.n_values if data.splits else n
-        data.rating = rating_table(section, stages, arg, data.slope, data.unit, data.splits or None)
-    else:
-        fig = section.table(stages)
-        data.rating = {
-            "stage": stages,
-            **{k: fig[k] for k in ("area", "wetted_perimeter", "top_width", "hydraulic_radius")},
-        }
-
-
-def _comparison(data: ReportData, section: Section, previous: dict) -> None:
-    before = _section_of([s for s in previous["stations"] if not s.get("removed")])
-    stage = data.stage
-    if stage is not None and stage > min(before.highest_stage, section.highest_stage):
-        stage = None
-    data.comparison = compare_visits(before, section, stage)
-    data.previous = previous
 
 
 def field_findings(visit: dict, stations: list[dict], stage: float | None) -> list[dict] | None:

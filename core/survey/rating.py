@@ -65,7 +65,7 @@ def stage_range(start: float, stop: float, step: float) -> np.ndarray:
     [1.0, 1.5, 2.0]
     """
     count = level_count(start, stop, step)
-    return float(start) + float(step) * np.arange(count)
+    return np.minimum(float(start) + float(step) * np.arange(count), float(stop))
 
 
 def rating_stages(
@@ -81,7 +81,7 @@ def rating_stages(
     if not hi > lo:
         raise SurveyError(f"the rating range is empty: from {lo:g} to {hi:g}")
     count = level_count(lo, hi, step, "the rating step")
-    stages = lo + step * np.arange(count)
+    stages = np.minimum(lo + step * np.arange(count), hi)  # rounding never passes the top
     if hi - stages[-1] > 1e-9 * max(1.0, abs(hi)):
         stages = np.append(stages, hi)
     return stages
