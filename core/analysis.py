@@ -114,6 +114,18 @@ def earlier_visit(
     ``visit`` by date and then by time of creation, in the same unit, whose ground line is
     usable (:func:`usable_ground`); ``stations_of(uuid)`` reads a visit's station dicts and is
     called only until one is found.  None when there is no such visit.
+
+    Examples
+    --------
+    >>> line = [{"station": 0, "elevation": 1.0}, {"station": 4, "elevation": 1.0}]
+    >>> visits = [
+    ...     {"uuid": "a", "section_uuid": "s", "unit": "m", "date": "2026-04-14"},
+    ...     {"uuid": "b", "section_uuid": "s", "unit": "m", "date": "2026-06-01"},  # no ground
+    ...     {"uuid": "c", "section_uuid": "s", "unit": "m", "date": "2026-09-22"},
+    ... ]
+    >>> ground = {"a": line, "b": line[:1], "c": line}
+    >>> earlier_visit(visits[2], visits, ground.get)["visit"]["uuid"]
+    'a'
     """
 
     def when(v: Mapping) -> tuple[str, str]:
@@ -148,6 +160,11 @@ class AnalysisOptions:
     ``method`` how the ± bands are found (``"linear"``: first-order propagation, the default,
     deterministic and O(stations); ``"monte-carlo"`` or ``"auto"``, see
     :mod:`stakeline.survey.uncertainty`).
+
+    Examples
+    --------
+    >>> AnalysisOptions(roughness="clean-winding", slope=0.002).method
+    'linear'
     """
 
     stage: float | None = None
@@ -175,6 +192,13 @@ class VisitAnalysis:
     ``comparison`` :func:`stakeline.survey.compare.compare_visits` with ``previous`` the
     earlier visit compared; the ``*_note`` fields say why a part is missing; ``missing`` lists
     the inputs the discharge still needs.
+
+    Examples
+    --------
+    >>> ground = [{"station": x, "elevation": z} for x, z in [(0, 2.0), (2, 0.0), (4, 2.0)]]
+    >>> result = analyse_visit({"unit": "m"}, ground)
+    >>> result.stage is None, result.missing[-1]
+    (True, 'water level (none read; give --stage)')
     """
 
     unit: str
@@ -264,7 +288,19 @@ def analyse_visit(
 
     Examples
     --------
-    See the module's example: a 4 m wide rectangle at the mean of two recorded levels.
+    The demo survey's riffle in spring, at the mean of its two water levels:
+
+    >>> from stakeline.store import Store
+    >>> store = Store.memory()
+    >>> spring = next(v for v in store.load_demo() if v["section"] == "XS1 riffle")
+    >>> visit = store.visit(spring["uuid"])
+    >>> result = analyse_visit(visit, store.stations(visit["uuid"]),
+    ...                        AnalysisOptions(roughness="mountain-gravel", slope=0.004))
+    >>> round(result.stage, 3), result.stage_source
+    (99.975, 'the mean of 2 water levels recorded')
+    >>> result.flow["discharge"] > 0 and result.n_range["minimum"] > result.n_range["maximum"]
+    True
+    >>> store.close()
     """
     options = options or AnalysisOptions()
     unit = unit_of(visit.get("unit") or "m").key

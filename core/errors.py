@@ -8,7 +8,13 @@ from __future__ import annotations
 
 
 class SurveyError(ValueError):
-    """Base class of every malformed-input error raised by ``core``."""
+    """Base class of every malformed-input error raised by Stakeline's domain.
+
+    Examples
+    --------
+    >>> issubclass(SurveyError, ValueError)
+    True
+    """
 
 
 class SectionError(SurveyError):
@@ -16,6 +22,11 @@ class SectionError(SurveyError):
 
     ``index`` is the 0-based position of the offending point (``None`` when the whole input is at
     fault) and ``station`` its station distance when known.
+
+    Examples
+    --------
+    >>> SectionError("point 2: station is missing", index=1).index
+    1
     """
 
     def __init__(self, message: str, index: int | None = None, station: float | None = None):
@@ -28,7 +39,12 @@ class OvertoppedError(SectionError):
     """The water level is above one end of the surveyed section.
 
     ``side`` is ``"left"`` or ``"right"``; ``excess`` is how far the water stands above that end
-    (same length unit as the section).
+    (same length unit as the section); the message shows enough decimals to make it non-zero.
+
+    Examples
+    --------
+    >>> str(OvertoppedError("left", 1.5000001, 1.5, 0, 0.0))[:42]
+    'water level 1.5000001 is 0.0000001 above t'
     """
 
     def __init__(self, side: str, stage: float, end_elevation: float, index: int, station: float):

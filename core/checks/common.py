@@ -34,6 +34,11 @@ class Finding:
     ``index`` is the 0-based position of the point in the sequence as entered (``None`` when the
     finding is not about one entered point); ``also`` the positions of other points that may be
     the one at fault (named in the suggestion: re-read them next).
+
+    Examples
+    --------
+    >>> Finding("gap", "warn", 3.0, "the panel is too wide", "add a station").as_dict()["kind"]
+    'gap'
     """
 
     kind: str
@@ -58,6 +63,9 @@ class Finding:
 @dataclass(frozen=True)
 class CheckSettings:
     """Tolerances of the checks; lengths in ``unit``.  Build with :meth:`for_unit`.
+
+    >>> CheckSettings.for_unit("m", min_wet_stations=15).min_wet_stations
+    15
 
     - ``reading_precision``, ``station_precision``: the crew's precision (survey unit).
     - ``spike_score``, ``spike_side_score``: how many robust standard deviations (1.4826 x median

@@ -317,9 +317,18 @@ def review(
     ``readings``: raw reading of each point (``None`` or NaN when unknown).  ``settings``: a
     :class:`CheckSettings`, or a dict of overrides of the defaults for the survey's unit.
 
-    Fewer than 2 points give no findings; malformed input (non-numbers, NaN, lengths that differ)
-    raises :class:`stakeline.errors.SectionError` naming the point.  Indices in the findings refer to
-    the sequence as entered.
+    Fewer than 2 points give no findings; malformed input (non-numbers, NaN, lengths that differ,
+    values beyond ±10^6 of the unit) raises :class:`stakeline.errors.SectionError` naming the
+    point.  Indices in the findings refer to the sequence as entered.
+
+    Examples
+    --------
+    >>> found = review([0, 1, 2, 2, 2, 3, 4], [2.0, 1.0, 1.0, 0.0, 1.0, 1.0, 2.0])
+    >>> [(f.kind, f.severity, f.station) for f in found]      # a slit: read down and back up
+    [('duplicate', 'block', 2.0)]
+    >>> review([0, 1, 2], [1.0, 0.5, 1.0], meta={"line_left": 101, "line_right": 101,
+    ...                                          "line_check": 101.03})[0].kind
+    'line'
     """
     meta = dict(meta or {})
     cfg = resolve_settings(settings, meta.get("unit") or None)

@@ -7,11 +7,12 @@ person can open the file and fix it.
 from __future__ import annotations
 
 import csv
-import math
 from dataclasses import dataclass, field
 from pathlib import Path
 
 from stakeline.errors import SectionFileError
+from stakeline.survey.numbers import NumberError, parse_number
+from stakeline.survey.units import Unit
 
 REQUIRED = ("station", "elevation")
 
@@ -26,13 +27,17 @@ class SectionRows:
     extra: dict[str, list[str]] = field(default_factory=dict)
 
 
-def _number(text: str, column: str, row: int) -> float:
+def _number(text: str, column: str, row: int, path: Path) -> float:
     try:
-        value = float(text)
-    except (TypeError, ValueError):
-        raise SectionFileError(f"row {row}: {column} {text!r} is not a number", row=row) from None
-    if not math.isfinite(value):
-        raise SectionFileError(f"row {row}: {column} {text!r} is not a finite number", row=row)
+        value = parse_number(text, f"row {row}: {column}")
+    except NumberError as exc:
+        raise SectionFileError(f"{path}: {exc}", row=row) from None
+    if abs(value) > Unit.LIMIT:
+        raise SectionFileError(
+            f"{path}: row {row}: {column} {text.strip()} is beyond ±{Unit.LIMIT:,.0f} of the "
+            "survey unit; check the number",
+            row=row,
+        )
     return value
 
 
@@ -40,9 +45,20 @@ def read_section_csv(path: str | Path, *, keep_order: bool = False) -> SectionRo
     """Read stations and elevations (survey unit) from a CSV file with a header row.
 
     Columns are matched case-insensitively; other columns are kept as text in ``extra``.  Blank
-    lines are skipped.  Raises :class:`stakeline.errors.SectionFileError` naming the row at fault.
-    A station less than the one before it is an error, unless ``keep_order`` is true: then the
-    rows are returned in file order as they are, for the field checks to report as ``order``.
+    lines are skipped.  Raises :class:`stakeline.errors.SectionFileError` naming the file and the
+    row at fault: a value that is not a number, or beyond ±10^6 of the unit.  A station less than
+    the one before it, or closer to it than a micrometre (yet not equal), is an error too, unless
+    ``keep_order`` is true: then the rows are returned in file order as they are, for the field
+    checks to report.
+
+    Examples
+    --------
+    >>> import pathlib, tempfile
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "xs.csv"
+    >>> _ = path.write_text("station,elevation,code\\n0,2.0,bank_top\\n2,0.5,\\n4,2.1,bank_top\\n")
+    >>> rows = read_section_csv(path)
+    >>> rows.stations, rows.extra["code"]
+    ([0.0, 2.0, 4.0], ['bank_top', '', 'bank_top'])
     """
     path = Path(path)
     try:
@@ -72,12 +88,19 @@ def read_section_csv(path: str | Path, *, keep_order: bool = False) -> SectionRo
             continue
         if len(cells) < len(header):
             cells = cells + [""] * (len(header) - len(cells))
-        station = _number(cells[where["station"]], "station", number)
-        elevation = _number(cells[where["elevation"]], "elevation", number)
+        station = _number(cells[where["station"]], "station", number, path)
+        elevation = _number(cells[where["elevation"]], "elevation", number, path)
         if not keep_order and stations and station < stations[-1]:
             raise SectionFileError(
-                f"row {number}: station {station:g} is less than the station before it "
+                f"{path}: row {number}: station {station:g} is less than the station before it "
                 f"({stations[-1]:g}); stations must not decrease",
+                row=number,
+            )
+        if not keep_order and stations and 0 < station - stations[-1] < Unit.RESOLUTION:
+            raise SectionFileError(
+                f"{path}: row {number}: station {station!r} is closer than a micrometre to the "
+                f"station before it ({stations[-1]!r}); give both rows one station (a vertical "
+                "face) or correct the tape reading",
                 row=number,
             )
         stations.append(station)

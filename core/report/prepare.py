@@ -84,6 +84,14 @@ def prepare_report(
     (see :func:`stakeline.analysis.earlier_visit`).  ``findings`` of None means the field checks
     could not be run (the report says so); flagged stations follow
     :func:`stakeline.checks.flagged_stations`.
+
+    Examples
+    --------
+    >>> ground = [{"station": x, "elevation": z} for x, z in [(0, 2.0), (2, 0.0), (4, 2.0)]]
+    >>> visit = {"site": "Demo", "section": "XS", "unit": "m", "water_levels": [{"elevation": 1.0}]}
+    >>> data = prepare_report(visit, ground, ReportOptions(n=0.035, slope=0.002))
+    >>> data.title, data.bands["area"].value, data.missing
+    ('Demo — XS', 1.0, [])
     """
     result = analyse_visit(visit, stations, options, previous)
     notes = [n for n in (result.bankfull_note, result.comparison_note if previous else "") if n]
@@ -142,7 +150,19 @@ def field_findings(visit: dict, stations: list[dict], stage: float | None) -> li
 
 
 def write_report(data: ReportData, path: str | Path) -> Path:
-    """Draw ``data`` to ``path``: ``.pdf`` (A4 pages) or ``.png`` (pages stacked); returns the path."""
+    """Draw ``data`` to ``path``: ``.pdf`` (A4 pages) or ``.png`` (pages stacked); returns the path.
+
+    Written to a temporary file first and renamed, so a half-written report never stands.
+
+    Examples
+    --------
+    >>> import pathlib, tempfile
+    >>> ground = [{"station": x, "elevation": z} for x, z in [(0, 2.0), (2, 0.0), (4, 2.0)]]
+    >>> data = prepare_report({"unit": "m"}, ground, ReportOptions(stage=1.0))
+    >>> out = write_report(data, pathlib.Path(tempfile.mkdtemp()) / "xs.pdf")
+    >>> out.read_bytes()[:4]
+    b'%PDF'
+    """
     from stakeline.report import pages as report_pages
 
     path = Path(path)

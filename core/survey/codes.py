@@ -34,6 +34,11 @@ class FeatureCode:
         The point is the top or foot of a vertical face: two readings at its station are expected.
     chip : bool
         Offered as a quick chip on the readings screen.
+
+    Examples
+    --------
+    >>> BY_CODE["undercut"].vertical_face, BY_CODE["deepest"].slope_break
+    (True, False)
     """
 
     code: str

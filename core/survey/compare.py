@@ -92,6 +92,11 @@ def scour_fill(before_x, before_z, after_x, after_z) -> ScourFill:
     """Scour (bed lowered) and fill (bed raised) areas between two visits, unit², exact.
 
     Only the stations both visits cover count; ``start``/``end`` give that range.
+
+    Examples
+    --------
+    >>> scour_fill([0, 2, 4], [1, 1, 1], [0, 2, 4], [1, 0, 1]).scour_area   # a V dug in a flat
+    2.0
     """
     left, right, d0, d1 = profile_difference(before_x, before_z, after_x, after_z)
     width = right - left
@@ -115,6 +120,12 @@ def compare_visits(before: Section, after: Section, stage: float | None = None) 
     ``deepest_before``/``deepest_after`` as ``[station, elevation]``, ``deepest_shift`` and
     ``deepest_drop`` (unit; a drop is positive when the bed got deeper), and, when ``stage`` is
     given, ``area_before``/``area_after``/``area_change`` (unit²) and the same for ``top_width``.
+
+    Examples
+    --------
+    >>> change = compare_visits(Section([0, 2, 4], [1, 0, 1]), Section([0, 2, 4], [1, -0.5, 1]), 1.0)
+    >>> change["scour_area"], change["deepest_drop"], change["area_change"]
+    (1.0, 0.5, 1.0)
     """
     sf = scour_fill(before.stations, before.elevations, after.stations, after.elevations)
     out = sf.as_dict()

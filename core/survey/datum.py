@@ -52,6 +52,12 @@ class LineVerdict:
         fails: each stake, or the line at the check's station (survey unit).
     text : str
         One line for the crew.
+
+    Examples
+    --------
+    >>> verdict = Datum(line_left=100.0, line_right=100.015).line_check(100.0075)
+    >>> verdict.within, verdict.where
+    (True, 'between the stakes')
     """
 
     within: bool | None
@@ -90,6 +96,14 @@ class Datum:
         Benchmark elevation; 100.000 is assumed when unknown (common practice).
     unit : str
         ``"m"`` or ``"ft"``.
+
+    Examples
+    --------
+    >>> rod = Datum(method="rod", backsight=1.512)           # benchmark 100.000 assumed
+    >>> rod.height_of_instrument, rod.elevations([0.0], [2.512]).tolist()
+    (101.512, [99.0])
+    >>> Datum().missing[:36]
+    'the visit has no line heights at the'
     """
 
     method: str = "line"

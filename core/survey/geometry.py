@@ -48,10 +48,21 @@ _FLAT_FRACTION = 1e-7
 
 @dataclass(frozen=True)
 class WaterSection:
-    """Figures of the wetted part of a section at one water level.
+    """Figures of the wetted part of a section at one water level (see :meth:`Section.at`).
 
-    Lengths in the survey unit, ``area`` in unit²; ``edges`` lists ``(left_station, right_station)``
-    for each wetted part, left to right.
+    Attributes
+    ----------
+    area : float
+        Wetted area, unit².
+    wetted_perimeter, top_width, hydraulic_radius, hydraulic_depth, max_depth : float
+        Lengths in the survey unit (R = A/P, D = A/T, deepest water = level - lowest point).
+    edges : list of (float, float)
+        ``(left_station, right_station)`` of each wetted part, left to right.
+
+    Examples
+    --------
+    >>> Section([0, 2, 4], [2, 0, 2]).at(1.0).as_dict()["edges"]
+    [[1.0, 3.0]]
     """
 
     area: float
@@ -90,7 +101,7 @@ def point_array(values: Sequence[float], name: str, finite: bool = True) -> np.n
     bad = np.flatnonzero(~np.isfinite(arr)) if finite else ()
     if len(bad):
         i = int(bad[0])
-        if _is_none(values, i):
+        if isinstance(values, list | tuple) and values[i] is None:
             raise SectionError(f"point {i + 1}: {name} is missing (not recorded)", index=i)
         raise SectionError(f"point {i + 1}: {name} {arr[i]} is not a finite number", index=i)
     if finite:
@@ -120,13 +131,6 @@ def close_stations(x: np.ndarray) -> np.ndarray:
     """
     step = np.diff(np.asarray(x, dtype=float))
     return np.flatnonzero((step > 0) & (step < Unit.RESOLUTION)) + 1
-
-
-def _is_none(values, i: int) -> bool:
-    try:
-        return values[i] is None
-    except (TypeError, IndexError, KeyError):
-        return False
 
 
 def check_magnitude(values: np.ndarray, name: str) -> None:
@@ -167,11 +171,32 @@ def water_strip(x: np.ndarray, z: np.ndarray, level: float) -> tuple[np.ndarray,
 class Section:
     """A surveyed cross-section: stations (distance across) and ground elevations, one length unit.
 
-    Stations must not decrease; two equal neighbouring stations describe a vertical face (a wall or
-    cut bank), and stations closer than a micrometre (:attr:`Unit.RESOLUTION` of the unit) are
-    taken as equal (the places where a person gives stations refuse them).  Stations and
-    elevations beyond ±10^6 of the unit are refused.  Malformed input raises :class:`stakeline.errors.SectionError` (a ``ValueError``) naming the
-    offending point (1-based, as a crew counts them).
+    Stations must not decrease; two equal neighbouring stations describe a vertical face (a wall
+    or cut bank), and stations closer than a micrometre (:attr:`Unit.RESOLUTION` of the unit)
+    are taken as equal (the places where a person gives stations refuse them).  Stations and
+    elevations beyond ±10^6 of the unit are refused.  Malformed input raises
+    :class:`stakeline.errors.SectionError` (a ``ValueError``) naming the offending point
+    (1-based, as a crew counts them).
+
+    Parameters
+    ----------
+    stations : sequence of float
+        Distance across from the origin stake, survey unit, not decreasing.
+    elevations : sequence of float
+        Ground elevation at each station, survey unit.
+
+    Examples
+    --------
+    >>> s = Section([0, 1, 3, 4], [2.0, 0.0, 0.0, 2.0])   # a trapezoid, bed 2 wide
+    >>> w = s.at(1.0)
+    >>> w.area, w.top_width, round(w.wetted_perimeter, 6)  # (2 + 3)/2·1, 3, 2 + 2·√(0.5² + 1)
+    (2.5, 3.0, 4.236068)
+    >>> s.table([0.5, 1.0])["top_width"].tolist()
+    [2.5, 3.0]
+    >>> Section([0, 1], [1.0, float("nan")])
+    Traceback (most recent call last):
+    ...
+    stakeline.errors.SectionError: point 2: elevation nan is not a finite number
     """
 
     def __init__(self, stations: Sequence[float], elevations: Sequence[float]):

@@ -120,6 +120,11 @@ def bank_top_splits(stations, elevations, codes: Sequence[str]) -> list[float]:
 
     The nearest ``bank_top`` left of the deepest point and the nearest right of it; a bank top at
     either end of the section leaves no overbank on that side and gives no split.
+
+    Examples
+    --------
+    >>> bank_top_splits([0, 2, 3, 5, 6, 8], [3, 1, 0, 0, 1, 3], ["", "bank_top", "", "", "bank_top", ""])
+    [2.0, 6.0]
     """
     x = np.asarray(stations, dtype=float)
     z = np.asarray(elevations, dtype=float)
@@ -137,6 +142,15 @@ class CompoundSection:
 
     ``n`` has one value per subsection, left to right (``len(splits) + 1`` values).  A vertical
     ground face at a split belongs to the subsection on the deepest point's side.
+
+    Examples
+    --------
+    >>> two_stage = Section([0, 0, 10, 10, 14, 14, 24, 24], [3, 1, 1, 0, 0, 1, 1, 3])
+    >>> compound = CompoundSection(two_stage, [10, 14], [0.05, 0.03, 0.05])
+    >>> compound.names()
+    ['left overbank', 'main channel', 'right overbank']
+    >>> round(float(compound.table(0.5)["conveyance"]), 4)    # (1/0.03)·2·(2/5)^(2/3)
+    36.1922
     """
 
     def __init__(self, section: Section, splits: Sequence[float], n: Sequence[float]):
@@ -235,7 +249,14 @@ class CompoundSection:
 
 @dataclass(frozen=True)
 class Flow:
-    """Uniform-flow figures at one water level; units as in the module table."""
+    """Uniform-flow figures at one water level; units as in the module table.
+
+    Examples
+    --------
+    >>> f = flow_at(Section([0, 0, 4, 4], [2, 0, 0, 2]), 1.0, n=0.03, slope=0.001)
+    >>> round(f.velocity, 4), round(f.froude, 4)             # Q/A, V/√(gD)
+    (0.8044, 0.2569)
+    """
 
     stage: float
     area: float
@@ -276,6 +297,12 @@ def flow_table(
 
     ``n`` is one Manning's n, or one per subsection when ``splits`` (stations) are given; then the
     conveyance is summed by subsection and ``parts`` holds the subsection figures.
+
+    Examples
+    --------
+    >>> table = flow_table(Section([0, 0, 4, 4], [2, 0, 0, 2]), [0.5, 1.0], 0.03, 0.001)
+    >>> table["discharge"].round(4).tolist()
+    [1.1445, 3.2177]
     """
     s = _positive(slope, "slope")
     fig = _channel_table(section, stages, n, unit_of(unit).key, splits)
@@ -292,7 +319,27 @@ def flow_table(
 
 
 def flow_at(section: Section, stage: float, n, slope: float, unit: str = "m", splits=None) -> Flow:
-    """All uniform-flow figures at one water level (see :func:`flow_table`)."""
+    """All uniform-flow figures at one water level, a :class:`Flow`.
+
+    Parameters
+    ----------
+    section : Section
+    stage : float
+        Water level (elevation), survey unit.
+    n : float or list of float
+        Manning's n, or one per subsection when ``splits`` are given.
+    slope : float
+        Energy slope (dimensionless).
+    unit : str
+        ``"m"`` or ``"ft"`` (k = 1 or 1.486).
+    splits : list of float, optional
+        Stations where the section is divided (divided-channel method).
+
+    Examples
+    --------
+    >>> round(flow_at(Section([0, 0, 4, 4], [2, 0, 0, 2]), 1.0, 0.03, 0.001, "ft").discharge, 4)
+    4.7815
+    """
     fig = flow_table(section, float(stage), n, slope, unit, splits)
     return Flow(**{name: float(fig[name]) for name in Flow.__dataclass_fields__})
 
@@ -404,6 +451,11 @@ def bankfull_stage(stations, elevations, codes: Sequence[str]) -> float | None:
 
     Water spills from the section at the lower bank top, so that is the default bankfull level;
     a person may choose a field indicator instead.
+
+    Examples
+    --------
+    >>> bankfull_stage([0, 1, 2, 3, 4], [2.5, 2.0, 0.0, 1.8, 2.5], ["", "bank_top", "", "bank_top", ""])
+    1.8
     """
     z = np.asarray(elevations, dtype=float)
     if len(codes) != z.size or len(stations) != z.size:
@@ -421,6 +473,12 @@ def bankfull_summary(section: Section, stage: float) -> dict[str, float]:
     """Bankfull figures at ``stage``: width, mean depth (A/T), max depth, width/depth ratio, area.
 
     Lengths in the survey unit, area in unit²; the ratio is dimensionless (inf when dry).
+
+    Examples
+    --------
+    >>> b = bankfull_summary(Section([0, 0, 4, 4], [2, 0, 0, 2]), 1.0)
+    >>> b["width"], b["mean_depth"], b["width_depth_ratio"]
+    (4.0, 1.0, 4.0)
     """
     w = section.at(float(stage))
     mean_depth = w.hydraulic_depth

@@ -25,7 +25,16 @@ from stakeline.errors import SurveyError
 
 
 class NumberError(SurveyError):
-    """A value that is not the number asked for; ``what`` names it and ``value`` is as given."""
+    """A value that is not the number asked for; ``what`` names it and ``value`` is as given.
+
+    Examples
+    --------
+    >>> try:
+    ...     parse_number("1,5", "reading")
+    ... except NumberError as exc:
+    ...     print(exc.what, repr(exc.value))
+    reading '1,5'
+    """
 
     what: str = ""
     value: Any = None

@@ -74,6 +74,11 @@ def rating_stages(
     """Water levels every ``step`` from ``start`` (default the lowest bed) to ``stop`` inclusive.
 
     ``stop`` defaults to the highest level the section holds; it is always included as the last row.
+
+    Examples
+    --------
+    >>> rating_stages(Section([0, 0, 4, 4], [1.05, 0, 0, 1.05]), 0.25).tolist()
+    [0.0, 0.25, 0.5, 0.75, 1.0, 1.05]
     """
     lo = section.lowest if start is None else parse_number(start, "the lowest water level")
     hi = section.highest_stage if stop is None else parse_number(stop, "the highest water level")
@@ -92,7 +97,14 @@ def rating_table(
 ) -> dict[str, np.ndarray]:
     """Rating table at ``stages``: a dict of arrays keyed by :data:`RATING_COLUMNS`.
 
-    ``n`` and ``splits`` as in :func:`stakeline.survey.hydraulics.flow_table` (one n, or one per subsection).
+    ``n`` and ``splits`` as in :func:`stakeline.survey.hydraulics.flow_table` (one n, or one per
+    subsection); lengths in the survey unit, discharge in unit³/s.
+
+    Examples
+    --------
+    >>> table = rating_table(Section([0, 0, 4, 4], [2, 0, 0, 2]), [0.5, 1.0], 0.03, 0.001)
+    >>> table["discharge"].round(4).tolist()
+    [1.1445, 3.2177]
     """
     fig = flow_table(section, np.asarray(stages, dtype=float), n, slope, unit, splits)
     return {name: np.asarray(fig[name], dtype=float) for name in RATING_COLUMNS}
@@ -130,5 +142,11 @@ def stage_from_table(table: dict, discharge: float) -> float:
 def stage_for(
     section: Section, discharge: float, n, slope: float, unit: str = "m", splits=None
 ) -> float:
-    """Exact inverse: the water level carrying ``discharge`` (root-finding, not table reading)."""
+    """Exact inverse: the lowest water level carrying ``discharge`` (not a table reading).
+
+    Examples
+    --------
+    >>> round(stage_for(Section([0, 0, 4, 4], [2, 0, 0, 2]), 3.2177, 0.03, 0.001), 4)
+    1.0
+    """
     return stage_for_discharge(section, discharge, n, slope, unit, splits)

@@ -81,7 +81,13 @@ def roughness_keys() -> list[str]:
 
 
 def roughness(key: str) -> RoughnessRow:
-    """The table row named ``key``; an unknown key raises SurveyError listing the known ones."""
+    """The table row named ``key``; an unknown key raises SurveyError listing the known ones.
+
+    Examples
+    --------
+    >>> roughness("mountain-gravel").normal
+    0.04
+    """
     try:
         return _BY_KEY[key]
     except KeyError:

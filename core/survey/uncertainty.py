@@ -61,7 +61,13 @@ figures_at = profile_figures
 
 @dataclass(frozen=True)
 class Precision:
-    """Standard deviation of one reading and of one station, survey unit."""
+    """Standard deviation of one reading and of one station, survey unit.
+
+    Examples
+    --------
+    >>> Precision.default("ft")
+    Precision(reading=0.02, station=0.03)
+    """
 
     reading: float
     station: float
@@ -81,7 +87,13 @@ class Precision:
 
 @dataclass(frozen=True)
 class Band:
-    """A figure with its expanded uncertainty ``plus_minus`` (k = 2) and its low/high ends."""
+    """A figure with its expanded uncertainty ``plus_minus`` (k = 2) and its low/high ends.
+
+    Examples
+    --------
+    >>> Band(2.5, 0.0123, 2.49, 2.51).text()
+    '2.500 ± 0.012'
+    """
 
     value: float
     plus_minus: float
@@ -216,6 +228,13 @@ def discharge_band(
     The relative spread of the single-channel Manning figure A^(5/3)·P^(-2/3) (over the perturbed
     copies, or by first-order propagation) is applied to the discharge (the divided-channel one
     when ``splits`` are given).  ``method`` as in :func:`geometry_bands`.
+
+    Examples
+    --------
+    >>> square = Section([0, 0, 4, 4], [2, 0, 0, 2])
+    >>> band = discharge_band(square, 1.0, 0.03, 0.001, "m", Precision(0.005, 0.01), method="linear")
+    >>> round(band.value, 4), band.plus_minus > 0
+    (3.2177, True)
     """
     value = flow_at(section, stage, n, slope, unit, splits).discharge
     water = section.at(stage)
@@ -240,6 +259,14 @@ def discharge_for_roughness(
 
     With ``splits``, ``n`` lists the subsection values used for the normal figure; every value is
     scaled by the row's minimum/normal and maximum/normal ratios.  Low n gives the high discharge.
+
+    Examples
+    --------
+    >>> from stakeline.survey.roughness import roughness
+    >>> q = discharge_for_roughness(Section([0, 0, 4, 4], [2, 0, 0, 2]), 1.0,
+    ...                             roughness("clean-winding"), 0.001, "m")
+    >>> round(q["minimum"] / q["normal"], 4)            # Q ∝ 1/n: 0.040 / 0.033
+    1.2121
     """
     base = np.atleast_1d(np.asarray(row.normal if n is None else n, dtype=float))
     out = {}

@@ -54,6 +54,11 @@ class Unit:
         Step a station to add is rounded to (what a tape is read to in practice).
     long_name : str
         The long distance a level loop is measured in (``"km"`` or ``"mile"``).
+
+    Examples
+    --------
+    >>> FOOT.gravity, FOOT.unit_weight, str(FOOT)
+    (32.174, 62.4, 'ft')
     """
 
     key: str
