@@ -69,6 +69,8 @@ def visit_water_level(water_levels: Sequence[Mapping], typed: float | None = Non
     """The visit's water level (survey unit): ``typed`` when given, else the mean of the
     recorded levels, else None.  A dragged level that was not recorded is never among them.
 
+    Examples
+    --------
     >>> visit_water_level([{"elevation": 99.98}, {"elevation": 99.97}])
     99.975
     >>> visit_water_level([{"elevation": 99.98}], typed=100.2), visit_water_level([])

@@ -64,8 +64,13 @@ class Finding:
 class CheckSettings:
     """Tolerances of the checks; lengths in ``unit``.  Build with :meth:`for_unit`.
 
+    Examples
+    --------
     >>> CheckSettings.for_unit("m", min_wet_stations=15).min_wet_stations
     15
+
+    Attributes
+    ----------
 
     - ``reading_precision``, ``station_precision``: the crew's precision (survey unit).
     - ``spike_score``, ``spike_side_score``: how many robust standard deviations (1.4826 x median

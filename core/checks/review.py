@@ -386,6 +386,8 @@ def flagged_stations(findings: Iterable) -> dict[float, str]:
     disagrees with) flags its station; findings about panels, edges or the whole survey do not.
     ``findings`` may be :class:`Finding` objects or their dicts (:meth:`Finding.as_dict`).
 
+    Examples
+    --------
     >>> found = review(range(11), [2.0, 1.6, 1.3, 1.1, 1.0, 1.6, 1.0, 1.1, 1.3, 1.6, 2.0])
     >>> list(flagged_stations(found))
     [5.0]

@@ -86,6 +86,8 @@ def _name(key: str) -> FigureName:
 def figure_label(key: str) -> str:
     """Plain words for figure ``key`` (an unknown key: its words, underscores as spaces).
 
+    Examples
+    --------
     >>> figure_label("max_depth")
     'deepest water'
     """
@@ -107,6 +109,8 @@ def figure_unit(key: str, unit: str) -> str:
 
     An unknown key is taken as a length.
 
+    Examples
+    --------
     >>> figure_unit("discharge", "ft"), figure_unit("top_width", "m"), figure_unit("froude", "m")
     ('ft³/s', 'm', '')
     """

@@ -102,6 +102,8 @@ def stream_power(discharge, slope: float, top_width, unit: str = "m"):
 def slope_from_water_levels(upstream: float, downstream: float, distance: float) -> float:
     """Water-surface (energy) slope from levels read at two sections ``distance`` apart (same unit).
 
+    Examples
+    --------
     >>> slope_from_water_levels(100.30, 100.10, 50.0)
     0.004
     """

@@ -187,6 +187,8 @@ def geometry_bands(
     ``"linear"`` (first-order) or ``"auto"`` (see the module notes).  The central value is
     always the exact figure of the section as surveyed.
 
+    Examples
+    --------
     >>> square = Section([0, 0, 4, 4], [2, 0, 0, 2])
     >>> bands = geometry_bands(square, 1.0, Precision(0.005, 0.01), "linear")
     >>> round(bands["area"].plus_minus, 4)  # 2·√(0.005²·(2² + 2²) + 0.01²·(1² + 1²))

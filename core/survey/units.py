@@ -172,6 +172,8 @@ def unit_of(unit: str | Unit) -> Unit:
 
     Raises :class:`stakeline.errors.SurveyError` for any other value.
 
+    Examples
+    --------
     >>> unit_of("m").name
     'metre'
     >>> unit_of("yd")

@@ -351,3 +351,75 @@ def test_line_tolerance_follows_the_visit_unit(field):
     field.save_settings(unit="m", line_tolerance=0.006)
     assert field.check_settings("m").line_tolerance == pytest.approx(0.006)
     assert field.check_settings("ft").line_tolerance == pytest.approx(0.006 / 0.3048)
+
+
+# --- one rule for the line check: the stakes screen and the field checks agree ----------------
+LINE_CASES = [
+    # (left, right, check): a line straight between two stakes of different heights is allowed;
+    # without the check's station, the check must lie within the tolerance of the line somewhere
+    # between the stakes (stakeline.survey.datum.Datum.line_check).
+    (100.000, 100.015, 100.0075, True),  # issue 9: the screen said OUTSIDE, the checks nothing
+    (100.000, 100.015, 100.014, True),
+    (100.000, 100.000, 100.008, True),  # within 10 mm of a level line
+    (100.000, 100.000, 100.020, False),
+    (100.000, 100.040, 100.055, False),  # above the higher stake by 15 mm
+    (100.000, 100.040, 99.985, False),  # below both: a sagging line
+    (100.200, 100.000, None, None),  # no check shot: nothing to judge yet
+]
+
+
+@pytest.mark.parametrize("left, right, check, within", LINE_CASES)
+def test_stakes_screen_and_field_checks_agree_on_the_line(field, left, right, check, within):
+    section = field.create_section("Orrin Brook", "XS-line")
+    visit = field.start_visit(section["uuid"], today="2026-11-30")
+    verdict = field.save_stakes(
+        visit, line_left=left, line_right=right, line_check=check, stake_distance=10.0
+    )
+    assert verdict.within is within and verdict == field.line_check(visit)
+    assert ("OUTSIDE" in verdict.text) is (within is False)
+    for station, reading in [(0.0, 0.3), (5.0, 1.2), (10.0, 0.4)]:
+        field.save_reading(visit, station, str(reading))
+    line = [f for f in field.review(visit) if f["kind"] == "line" and f["station"] is None]
+    assert bool(line) is (within is False)
+    if within is False:  # the findings name how far each stake's height is from the check
+        assert all(f"{verdict.tolerance:.3f} m" in f["message"] for f in line)
+
+
+def test_level_and_rod_verdict_names_the_height_of_instrument(field):
+    section = field.create_section("Orrin Brook", "XS-rod")
+    visit = field.start_visit(section["uuid"], today="2026-11-30")
+    assert field.save_stakes(visit, method="rod").text.startswith("Level and rod: type")
+    verdict = field.save_stakes(visit, method="rod", backsight=1.512)
+    assert verdict.within is None and "101.512 m" in verdict.text  # 100.000 assumed + 1.512
+
+
+# --- which findings flag a station, and the visit's water level --------------------------------
+def test_the_service_flags_stations_by_the_checks_rule(field):
+    from stakeline.checks import flagged_stations
+
+    visit = field.store.visits()[0]["uuid"]
+    findings = field.review(visit) + [
+        {"kind": "gap", "severity": "warn", "station": 3.0, "message": "panel"},
+        {"kind": "spike", "severity": "warn", "station": 4.5, "message": "spike"},
+    ]
+    assert field.flagged_stations(findings) == flagged_stations(findings)
+    assert 4.5 in field.flagged_stations(findings) and 3.0 not in field.flagged_stations(findings)
+
+
+def test_the_visit_water_level_is_the_mean_of_those_recorded(field):
+    visit = _trapezoid_visit(field, "2026-05-01")  # records 98.5
+    field.record_water_level(visit, "98.7")
+    assert field.water_level(visit) == pytest.approx(98.6)  # common practice: the mean
+    inputs = field.office_inputs(visit)
+    assert inputs["recorded_level"] == pytest.approx(98.6)
+    # A level typed on the figures screen overrides it; a dragged one is never recorded.
+    assert field.office_figures(inputs, 98.5)["level"] == 98.5
+
+
+def test_figures_of_a_visit_without_line_heights_say_why(field):
+    section = field.create_section("Orrin Brook", "XS-no-line")
+    visit = field.start_visit(section["uuid"], today="2026-11-30")
+    field.save_reading(visit, 0.0, "0.5")
+    field.save_reading(visit, 4.0, "0.5")
+    figures = field.office_figures(field.office_inputs(visit), 98.5)
+    assert "no line heights" in figures["error"]
