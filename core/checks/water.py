@@ -10,6 +10,7 @@ import math
 
 import numpy as np
 from stakeline.checks.common import CheckSettings, Finding, _at, _len, _new_station
+from stakeline.survey.numbers import decimals_for
 
 
 def overtopped_findings(stations, elevations, stage: float, unit: str = "m") -> list[Finding]:
@@ -22,14 +23,15 @@ def overtopped_findings(stations, elevations, stage: float, unit: str = "m") -> 
     out = []
     for side, i, way in (("left", 0, "before"), ("right", x.size - 1, "beyond")):
         if stage > z[i]:
+            d = decimals_for(stage - z[i])  # a tiny excess still shows as non-zero
             out.append(
                 Finding(
                     "overtopped",
                     "block",
                     float(x[i]),
-                    f"water level {_len(stage, unit)} is {_len(stage - z[i], unit)} above the "
-                    f"{side} end of the survey (station {_at(x[i], unit)}, elevation "
-                    f"{_len(z[i], unit)}): the section does not hold the water",
+                    f"water level {_len(stage, unit, d)} is {_len(stage - z[i], unit, d)} above "
+                    f"the {side} end of the survey (station {_at(x[i], unit)}, elevation "
+                    f"{_len(z[i], unit, d)}): the section does not hold the water",
                     f"extend the survey on the {side} bank: add stations {way} {_at(x[i], unit)} "
                     "until the ground is above the water level, or check the water level",
                     i,

@@ -18,7 +18,8 @@ from pathlib import Path
 import numpy as np
 from stakeline.errors import SurveyError
 from stakeline.survey.rating import RATING_COLUMNS, column_heading
-from stakeline.survey.reduction import UNITS, check_unit
+from stakeline.survey.reduction import check_unit
+from stakeline.survey.units import unit_of
 
 STATION_COLUMNS = ("station", "reading", "elevation", "code", "note", "unit")
 """Columns of the stations CSV, in order."""
@@ -114,9 +115,10 @@ def station_positions(
     span = stake_distance_m(a, b)
     if span == 0:
         raise SurveyError("the two stakes have the same coordinates; the section has no direction")
-    distance = np.asarray(stations, dtype=float) * UNITS[check_unit(unit)]
+    metres = unit_of(unit).metres
+    distance = np.asarray(stations, dtype=float) * metres
     if stake_distance:
-        distance = distance / (float(stake_distance) * UNITS[unit]) * span
+        distance = distance / (float(stake_distance) * metres) * span
     bearing = math.atan2(
         math.sin(lon2 - lon1) * math.cos(lat2),
         math.cos(lat1) * math.sin(lat2) - math.sin(lat1) * math.cos(lat2) * math.cos(lon2 - lon1),

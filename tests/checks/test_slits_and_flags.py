@@ -124,3 +124,9 @@ def test_flagged_stations_rule():
 def test_flagged_stations_take_finding_objects():
     found = review(np.arange(11.0), [2.0, 1.6, 1.3, 1.1, 1.0, 1.6, 1.0, 1.1, 1.3, 1.6, 2.0])
     assert flagged_stations(found) == flagged_stations([f.as_dict() for f in found])
+
+
+def test_a_tiny_overtopping_shows_in_the_finding():
+    # Issue 11 item 15: 1.5000001 over an end at 1.5 read "1.500 m is 0.000 m above".
+    found = review([0, 1, 2], [1.5, 0.0, 2.0], stage=1.5000001)
+    assert "is 0.0000001 m above the left end" in found[0].message
