@@ -41,6 +41,6 @@ def _loaded_after(code: str) -> list[str]:
 def test_importing_stakeline_is_cheap():
     assert _loaded_after("import stakeline") == []
     assert _loaded_after("from stakeline import Section") == ["numpy"]
-    # The command line loads the drawing, the app and the store only for commands that use them.
+    # The command line loads the drawing and the touch app only for the commands that use them.
     cli = _loaded_after("import stakeline.app.cli")
-    assert not {"matplotlib", "sqlite_utils", "kivy", "shapely"} & set(cli)
+    assert not {"matplotlib", "kivy", "shapely"} & set(cli)
