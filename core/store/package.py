@@ -1,17 +1,24 @@
-"""Visit packages: one self-contained, checksummed file per finished visit, for office sync by
-file copy (USB stick, shared folder).  Data only -- JSON, no code, no pickle.
+"""Visit packages: one self-contained, checksummed, signed file per finished visit, for office
+sync by file copy (USB stick, shared folder).  Data only -- JSON, no code, no pickle.
 
 A package is the canonical JSON text (sorted keys, no spaces, ASCII) of::
 
-    {"manifest": {"format": "stakeline-visit/1", "visit": UUID, "device": ..., "created": ...,
-                  "sha256": HEX},
+    {"manifest": {"format": "stakeline-visit/2", "visit": UUID, "device": ..., "created": ...,
+                  "key": HEX64, "sha256": HEX64, "signature": HEX128},
      "records": {site, section, visit, edits, station_versions, water_levels, overrides}}
 
-followed by one newline.  ``sha256`` is taken over the canonical text of the same document without
-the ``sha256`` field, so it covers the manifest and every record.  On import the file must be
-exactly its canonical form and the checksum must match, so any changed byte -- in a value, in
-the manifest or in the layout -- is detected.  Files are written under a temporary name, synced
-and renamed, so a half-written file never carries the package name.  Nothing inside a package is
+followed by one newline.  ``signature`` is the Ed25519 signature, by the device's key
+(``key``, its public half), of the canonical text with ``sha256`` and ``signature`` blanked
+(zeros): it covers the manifest and every record and proves which device wrote them.
+``sha256`` is taken over the text with only ``sha256`` blanked, so it covers the signature too
+and tells plain damage (a bad copy) from a change made after signing.  On import the file must
+be exactly its canonical form and the checksum must match (else: rejected, damaged); then the
+signature must hold and its key be trusted by the office and not retired (else: *held* -- kept
+whole, listed, not merged).  Packages of the older format ``stakeline-visit/1`` have no
+signature and are held as unsigned.
+
+Files are written through :mod:`stakeline.files.durable` (exclusive temporary file, fsync,
+rename), so a half-written file never carries the package name.  Nothing inside a package is
 ever used as a file path; size and row limits stop a hostile file from filling the office disk.
 """
 
@@ -19,18 +26,37 @@ from __future__ import annotations
 
 import hashlib
 import json
-import math
 import os
 import re
-from collections.abc import Callable, Iterable
+import time
+from collections.abc import Iterable
 from pathlib import Path
 from typing import Any
 
-from stakeline.store.values import METHODS, TEXT_LIMIT, StoreError, canonical_json, now
-from stakeline.survey.reduction import UNITS
+from nacl.signing import SigningKey
+from stakeline.files.durable import (
+    NotRegularFileError,
+    read_regular,
+    remove_stale_partials,
+)
+from stakeline.files.durable import (
+    write_atomic as _write_durable,
+)
+from stakeline.store import signing
+from stakeline.store.faults import StoreFaultError
+from stakeline.store.records import MAX_ROWS, PackageError, check_records, value_ok
+from stakeline.store.values import StoreError, canonical_json, now
 
-FORMAT = "stakeline-visit/1"
-"""Format tag of the package files this code writes and reads."""
+__all__ = ["FORMAT", "LEGACY_FORMAT", "SUFFIX", "MAX_BYTES", "MAX_ROWS", "PackageError",
+           "build_package", "parse_package", "signature_valid", "pack_visits", "import_file",
+           "import_files", "retry_held", "expand_paths", "read_limited", "package_name",
+           "records_sha", "sha256_hex", "write_atomic"]  # fmt: skip
+
+FORMAT = "stakeline-visit/2"
+"""Format tag of the (signed) package files this code writes."""
+
+LEGACY_FORMAT = "stakeline-visit/1"
+"""Format tag of the older unsigned packages: still read, always held."""
 
 SUFFIX = ".stakeline-visit.json"
 """File name ending of a visit package."""
@@ -38,61 +64,23 @@ SUFFIX = ".stakeline-visit.json"
 MAX_BYTES = 8 * 1024 * 1024
 """Largest package file accepted (bytes); a real visit is a few tens of kilobytes."""
 
-MAX_ROWS = 20_000
-"""Most records of one kind (station versions, edits...) accepted in one package."""
+BATCH_BYTES = 12 * 1024 * 1024
+"""Package bytes merged under one write lock (one durable commit); with
+:data:`LOCK_BUDGET` it keeps the lock short so the app and other imports are not kept waiting."""
 
-_BLANK = "0" * 64
+LOCK_BUDGET = 1.5
+"""Seconds an import merges under one write lock before committing and letting others in."""
+
+MAX_DIGITS = 19
+"""Longest whole number (digits) a package may hold; Stakeline writes none longer than 16."""
+
+_BLANK_SHA = "0" * 64
+_BLANK_SIGNATURE = "0" * 128
 _SHA_KEY = b'"sha256":"'
+_SIGNATURE_KEY = b'"signature":"'
 _RECORDS_KEY = b',"records":'
-_UUID = re.compile(r"^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$")
-_DATE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
-_STAMPS = {"created": "time", "modified": "time", "device": "text"}
-FIELDS: dict[str, dict[str, str]] = {
-    "site": {"uuid": "uuid", "name": "text", "stream": "text", "description": "text", **_STAMPS},
-    "section": {
-        "uuid": "uuid", "site_uuid": "uuid", "name": "text", "left_stake": "text",
-        "right_stake": "text", "origin": "origin", "benchmark_name": "text",
-        "benchmark_elevation": "number?", "benchmark_assumed": "flag", "left_lon": "number?",
-        "left_lat": "number?", "right_lon": "number?", "right_lat": "number?", **_STAMPS,
-    },
-    "visit": {
-        "uuid": "uuid", "section_uuid": "uuid", "date": "date", "crew": "names", "unit": "unit",
-        "method": "method", "line_left": "number?", "line_right": "number?",
-        "line_check": "number?", "stake_distance": "number?", "backsight": "number?",
-        "notes": "text", "planned": "numbers", "settings": "object", "finished": "time?",
-        **_STAMPS,
-    },
-    "edits": {
-        "uuid": "uuid", "record_table": "table", "record_uuid": "uuid", "before": "object",
-        "after": "object", "created": "time", "device": "text",
-    },
-    "station_versions": {
-        "uuid": "uuid", "station_uuid": "uuid", "visit_uuid": "uuid", "action": "action",
-        "station": "number?", "reading": "number?", "code": "text?", "note": "text?",
-        "seq": "count", "undoes": "uuid?", "created": "time", "device": "text",
-    },
-    "water_levels": {
-        "uuid": "uuid", "visit_uuid": "uuid", "elevation": "number", "time": "time", **_STAMPS,
-    },
-    "overrides": {
-        "uuid": "uuid", "visit_uuid": "uuid", "kind": "text", "station": "number?",
-        "reason": "text", **_STAMPS,
-    },
-}  # fmt: skip
-"""Every field of every record kind in a package, with its kind of value."""
-
-LISTS = ("edits", "station_versions", "water_levels", "overrides")
-CHOICES = {
-    "origin": ("left", "right"),
-    "unit": tuple(UNITS),
-    "method": METHODS,
-    "table": ("sites", "sections", "visits"),
-    "action": ("add", "correct", "remove", "undo"),
-}
-
-
-class PackageError(StoreError):
-    """A package file that cannot be imported; the message is the one-line reason."""
+_MANIFEST_V1 = {"format", "visit", "device", "created", "sha256"}
+_MANIFEST_V2 = _MANIFEST_V1 | {"key", "signature"}
 
 
 def sha256_hex(data: bytes) -> str:
@@ -105,21 +93,31 @@ def _canonical_bytes(document: Any) -> bytes:
                        allow_nan=False) + "\n").encode("ascii")  # fmt: skip
 
 
-def build_package(records: dict, device: str, created: str) -> bytes:
-    """The bytes of a package holding ``records`` (as ``Store.visit_records``)."""
-    manifest = {"format": FORMAT, "visit": records["visit"]["uuid"], "device": device,
-                "created": created, "sha256": _BLANK}  # fmt: skip
-    unsigned = _canonical_bytes({"manifest": manifest, "records": records})
-    start = _checksum_at(unsigned)
-    return unsigned[:start] + sha256_hex(unsigned).encode("ascii") + unsigned[start + 64 :]
+def _field_at(data: bytes, key: bytes) -> int:
+    """Offset of a manifest field's hex value in canonical package bytes.  The manifest comes
+    first and its string values cannot hold a bare quote, so the first match is the field."""
+    return data.index(key) + len(key)
 
 
-def _checksum_at(data: bytes) -> int:
-    """Offset of the manifest checksum's 64 hex digits in canonical package bytes.
+def _splice(data: bytes, key: bytes, value: str) -> bytes:
+    start = _field_at(data, key)
+    return data[:start] + value.encode("ascii") + data[start + len(value) :]
 
-    The manifest is the first key and its string values cannot hold a bare quote, so the first
-    ``"sha256":"`` is the manifest's own."""
-    return data.index(_SHA_KEY) + len(_SHA_KEY)
+
+def build_package(
+    records: dict, device: str, created: str, key: SigningKey | None = None
+) -> bytes:
+    """The bytes of a package holding ``records`` (as ``Store.visit_records``), signed by
+    ``key``; without a key, an unsigned package of the older format (held on import)."""
+    manifest = {"format": LEGACY_FORMAT if key is None else FORMAT,
+                "visit": records["visit"]["uuid"], "device": device, "created": created,
+                "sha256": _BLANK_SHA}  # fmt: skip
+    if key is not None:
+        manifest.update(key=signing.public_hex(key), signature=_BLANK_SIGNATURE)
+    data = _canonical_bytes({"manifest": manifest, "records": records})
+    if key is not None:
+        data = _splice(data, _SIGNATURE_KEY, signing.sign(key, data))
+    return _splice(data, _SHA_KEY, sha256_hex(data))
 
 
 def records_sha(records: dict) -> str:
@@ -133,83 +131,13 @@ def _records_sha_of(data: bytes) -> str:
     return sha256_hex(data[start:-2])
 
 
-def _is_number(value: Any) -> bool:
-    return (type(value) is float or type(value) is int) and math.isfinite(value)
-
-
-def _is_text(value: Any, limit: int = TEXT_LIMIT) -> bool:
-    return type(value) is str and len(value) <= limit
-
-
-_CHECKS: dict[str, Callable[[Any], bool]] = {
-    "number": _is_number,
-    "count": lambda v: type(v) is int and v >= 0,
-    "text": _is_text,
-    "time": lambda v: _is_text(v, 40),
-    "uuid": lambda v: type(v) is str and len(v) == 36 and _UUID.match(v) is not None,
-    "date": lambda v: type(v) is str and _DATE.match(v) is not None,
-    "flag": lambda v: type(v) is int and v in (0, 1),
-    "names": lambda v: type(v) is list and all(_is_text(n) for n in v),
-    "numbers": lambda v: type(v) is list and all(_is_number(n) for n in v),
-    "object": lambda v: type(v) is dict,
-    **{kind: (lambda v, allowed=allowed: v in allowed) for kind, allowed in CHOICES.items()},
-}
-
-
-def _checker(kind: str) -> Callable[[Any], bool]:
-    check = _CHECKS[kind.rstrip("?")]
-    if kind.endswith("?"):
-        return lambda v: v is None or check(v)
-    return check
-
-
-_RECORD_CHECKS = {
-    kind: (frozenset(fields), [(name, _checker(k)) for name, k in fields.items()])
-    for kind, fields in FIELDS.items()
-}
-
-
-def _value_ok(kind: str, value: Any) -> bool:
-    """Whether ``value`` is a valid value of a field of kind ``kind`` (see FIELDS)."""
-    return _checker(kind)(value)
-
-
-def _check_record(kind: str, record: Any, where: str) -> None:
-    names, checks = _RECORD_CHECKS[kind]
-    if type(record) is not dict or record.keys() != names:
-        raise PackageError(f"{where} does not have the fields of a {kind} record")
-    for name, check in checks:
-        if not check(record[name]):
-            raise PackageError(f"{where} has a bad {name} value {str(record[name])[:40]!r}")
-
-
-def check_records(records: Any, visit_uuid: str) -> None:
-    """Raise PackageError unless ``records`` is a well-formed, self-consistent visit."""
-    if not isinstance(records, dict) or set(records) != {"site", "section", "visit", *LISTS}:
-        raise PackageError("its records are not those of a visit package")
-    for kind in ("site", "section", "visit"):
-        _check_record(kind, records[kind], kind)
-    site, section, visit = records["site"], records["section"], records["visit"]
-    if section["site_uuid"] != site["uuid"] or visit["section_uuid"] != section["uuid"]:
-        raise PackageError("its site, section and visit do not belong together")
-    if visit["uuid"] != visit_uuid:
-        raise PackageError("its manifest names a different visit than its records")
-    owners = {site["uuid"]: "sites", section["uuid"]: "sections", visit["uuid"]: "visits"}
-    seen = set(owners)
-    for kind in LISTS:
-        rows = records[kind]
-        if not isinstance(rows, list) or len(rows) > MAX_ROWS:
-            raise PackageError(f"its {kind} are not a list of at most {MAX_ROWS} records")
-        for i, row in enumerate(rows):
-            _check_record(kind, row, f"{kind} record {i + 1}")
-            if row["uuid"] in seen:
-                raise PackageError(f"{kind} record {i + 1} repeats an id")
-            seen.add(row["uuid"])
-            if kind == "edits":
-                if owners.get(row["record_uuid"]) != row["record_table"]:
-                    raise PackageError(f"edit {i + 1} is not about this visit's records")
-            elif row["visit_uuid"] != visit_uuid:
-                raise PackageError(f"{kind} record {i + 1} belongs to another visit")
+def _whole_number(digits: str) -> int:
+    if len(digits.lstrip("-")) > MAX_DIGITS:
+        raise PackageError(
+            f"damaged or forged: it holds a whole number of {len(digits.lstrip('-'))} digits, "
+            "far beyond any survey value"
+        )
+    return int(digits)
 
 
 def _damaged(data: bytes, exc: ValueError) -> PackageError:
@@ -219,8 +147,7 @@ def _damaged(data: bytes, exc: ValueError) -> PackageError:
     return PackageError(f"damaged: not valid package text near byte {position}")
 
 
-def parse_package(data: bytes) -> tuple[dict, dict]:
-    """Verify package bytes; returns (manifest, records) or raises PackageError (one line)."""
+def _document(data: bytes) -> dict:
     if not data:
         raise PackageError("empty file")
     if len(data) > MAX_BYTES:
@@ -228,7 +155,9 @@ def parse_package(data: bytes) -> tuple[dict, dict]:
     if not data.startswith(b'{"manifest":'):
         raise PackageError("not a Stakeline visit package")
     try:
-        document = json.loads(data.decode("ascii"))
+        document = json.loads(data.decode("ascii"), parse_int=_whole_number)
+    except PackageError:
+        raise
     except UnicodeDecodeError:
         raise PackageError("damaged: a byte that Stakeline never writes") from None
     except RecursionError:
@@ -237,40 +166,57 @@ def parse_package(data: bytes) -> tuple[dict, dict]:
         raise _damaged(data, exc) from None
     if not isinstance(document, dict) or set(document) != {"manifest", "records"}:
         raise PackageError("not a Stakeline visit package")
+    return document
+
+
+def parse_package(data: bytes) -> tuple[dict, dict]:
+    """Verify package bytes (form, checksum, records); returns (manifest, records) or raises
+    PackageError (one line).  The signature is checked apart: :func:`signature_valid`."""
+    document = _document(data)
     manifest = document["manifest"]
-    if not isinstance(manifest, dict) or set(manifest) != {
-        "format", "visit", "device", "created", "sha256"
-    }:  # fmt: skip
+    if not isinstance(manifest, dict) or set(manifest) not in (_MANIFEST_V1, _MANIFEST_V2):
         raise PackageError("damaged or foreign: its manifest is not a Stakeline manifest")
-    if manifest["format"] != FORMAT:
-        raise PackageError(f"format {str(manifest['format'])[:40]!r} is not {FORMAT!r}")
+    wanted = FORMAT if "key" in manifest else LEGACY_FORMAT
+    if manifest["format"] != wanted:
+        raise PackageError(f"format {str(manifest['format'])[:40]!r} is not {wanted!r}")
     try:
         canonical = _canonical_bytes(document)
     except ValueError:
         raise PackageError("damaged: a number that is not finite") from None
     if canonical != data:
         raise PackageError("damaged: the file differs from the form Stakeline writes")
-    start = _checksum_at(data)
-    unsigned = data[:start] + _BLANK.encode("ascii") + data[start + 64 :]
-    if manifest["sha256"] != sha256_hex(unsigned):
+    if manifest["sha256"] != sha256_hex(_splice(data, _SHA_KEY, _BLANK_SHA)):
         raise PackageError("checksum mismatch: the file was damaged or altered")
-    if not _value_ok("uuid", manifest["visit"]) or not _value_ok("text", manifest["device"]):
+    if not value_ok("uuid", manifest["visit"]) or not value_ok("text", manifest["device"]):
         raise PackageError("damaged: its manifest names no visit or device")
+    if not value_ok("time", manifest["created"]):
+        raise PackageError("damaged: its manifest has no creation time")
+    if "key" in manifest and not (
+        signing.is_public_key(manifest["key"]) and signing.is_signature(manifest["signature"])
+    ):
+        raise PackageError("damaged: its manifest holds no valid key or signature")
     check_records(document["records"], manifest["visit"])
     return manifest, document["records"]
 
 
+def signature_valid(data: bytes, manifest: dict) -> bool:
+    """Whether verified package bytes carry a good signature by the key they name (False for
+    an unsigned package)."""
+    if "key" not in manifest:
+        return False
+    signed = _splice(_splice(data, _SHA_KEY, _BLANK_SHA), _SIGNATURE_KEY, _BLANK_SIGNATURE)
+    return signing.verify(manifest["key"], signed, manifest["signature"])
+
+
 def read_limited(path: str | os.PathLike) -> bytes:
-    """The bytes of a regular file of at most MAX_BYTES; PackageError otherwise."""
+    """The bytes of a regular file of at most MAX_BYTES; PackageError otherwise (a named pipe
+    or device is refused before a byte is read)."""
     try:
-        with open(path, "rb") as handle:
-            if not os.path.isfile(path):
-                raise PackageError("not a regular file")
-            data = handle.read(MAX_BYTES + 1)
+        data = read_regular(path, MAX_BYTES)
+    except NotRegularFileError as exc:
+        raise PackageError(f"{exc}; not a package file") from None
     except FileNotFoundError:
         raise PackageError("no such file") from None
-    except IsADirectoryError:
-        raise PackageError("a folder, not a package file") from None
     except OSError as exc:
         raise PackageError(f"cannot be read ({exc.strerror})") from None
     if len(data) > MAX_BYTES:
@@ -286,57 +232,49 @@ def package_name(records: dict) -> str:
 
 
 def write_atomic(path: Path, data: bytes) -> None:
-    """Write ``data`` to ``path`` so that ``path`` is either absent, the old file or the whole
-    new one: write a temporary file in the same folder, fsync, rename, fsync the folder."""
-    temporary = path.with_name(f".{path.name}.{os.getpid()}.partial")
-    try:
-        with open(temporary, "wb") as handle:
-            handle.write(data)
-            handle.flush()
-            os.fsync(handle.fileno())
-        os.replace(temporary, path)
-    finally:
-        if temporary.exists():
-            temporary.unlink()
-    folder = os.open(path.parent, os.O_RDONLY)
-    try:
-        os.fsync(folder)
-    finally:
-        os.close(folder)
+    """Write ``data`` to ``path`` whole or not at all (see :mod:`stakeline.files.durable`)."""
+    _write_durable(path, data, mode=0o644)
 
 
-def _packed_records_sha(path: Path) -> str | None:
+def _is_current(path: Path, records: dict, public_key: str) -> bool:
+    """Whether ``path`` already holds these records, signed by this store's key."""
     try:
-        return records_sha(parse_package(read_limited(path))[1])
+        data = read_limited(path)
+        manifest, packed = parse_package(data)
     except PackageError:
-        return None
+        return False
+    return (
+        manifest.get("key") == public_key
+        and records_sha(packed) == records_sha(records)
+        and signature_valid(data, manifest)
+    )
 
 
-def pack_visits(
-    store, outbox: str | os.PathLike, progress: Callable[[int, int], None] | None = None
-) -> list[dict]:
-    """Write a package for every finished visit of ``store`` into the folder ``outbox``.
+def pack_visits(store, outbox: str | os.PathLike) -> list[dict]:
+    """Write a signed package for every finished visit of ``store`` into the folder ``outbox``.
 
     Returns one dict per visit: {visit, path, status} with status ``written`` or ``unchanged``
-    (the outbox already holds a package with the same records).  ``progress(done, total)`` is
-    called after each package.
+    (the outbox already holds a package with the same records, signed by this store's key).
+    Temporary files left by a killed earlier run are removed first.
     """
     folder = Path(outbox)
     if folder.exists() and not folder.is_dir():
         raise PackageError(f"outbox {folder} is a file, not a folder")
     folder.mkdir(parents=True, exist_ok=True)
+    remove_stale_partials(folder)
+    key = store.signing_key()
+    public_key = signing.public_hex(key)
     results = []
-    finished = [visit for visit in store.visits() if visit["finished"]]
-    for visit in finished:
+    for visit in store.visits():
+        if not visit["finished"]:
+            continue
         records = store.visit_records(visit["uuid"])
         path = folder / package_name(records)
         status = "unchanged"
-        if not path.exists() or _packed_records_sha(path) != records_sha(records):
-            write_atomic(path, build_package(records, store.device_id, now()))
+        if not _is_current(path, records, public_key):
+            write_atomic(path, build_package(records, store.device_id, now(), key))
             status = "written"
         results.append({"visit": visit["uuid"], "path": str(path), "status": status})
-        if progress is not None:
-            progress(len(results), len(finished))
     return results
 
 
@@ -354,51 +292,134 @@ def expand_paths(paths: Iterable[str | os.PathLike]) -> list[str]:
     return files
 
 
+def _prepare(store, path: str) -> dict:
+    """Read and verify one file without the write lock: {file, size, result (final, or None),
+    data, file_sha, manifest, records, signed (signature holds)}."""
+    item: dict[str, Any] = {"file": path, "size": 0, "result": None}
+    try:
+        data = read_limited(path)
+        item.update(size=len(data), data=data, file_sha=sha256_hex(data))
+        seen = store.package_seen(item["file_sha"])
+        if seen is not None and seen["status"] != "held":
+            unresolved = seen["status"] == "conflict" and seen["resolved"] is None
+            note = "unresolved conflict" if unresolved else "nothing changed"
+            item["result"] = {"file": path, "visit": seen["visit_uuid"],
+                              "status": "conflict" if unresolved else "present",
+                              "message": f"already imported on {seen['imported'][:10]}; {note}"}
+            return item  # fmt: skip
+        item["manifest"], item["records"] = parse_package(data)
+        item["signed"] = signature_valid(data, item["manifest"])
+    except StoreFaultError:
+        raise
+    except StoreError as exc:
+        item["result"] = {"file": path, "visit": None, "status": "rejected",
+                          "message": f"rejected: {exc}"}  # fmt: skip
+    return item
+
+
+def _hold_reason(store, manifest: dict, signed: bool) -> str | None:
+    if "key" not in manifest:
+        return (
+            "unsigned: it was packed by a Stakeline older than signed packages; update "
+            "Stakeline on the device and pack the visit again"
+        )
+    if not signed:
+        return (
+            "its signature does not match its content: it was changed after it was signed "
+            "(or signed by another key than it names); ask the device for a fresh copy"
+        )
+    return store.signer_verdict(manifest["key"], manifest["device"], manifest["created"])
+
+
+def _merge(store, item: dict) -> dict:
+    """Merge (or hold) one prepared file; call under the write lock."""
+    if item["result"] is not None:
+        return item["result"]
+    out = {"file": item["file"], "visit": item["manifest"]["visit"]}
+    manifest, data = item["manifest"], item["data"]
+    try:
+        reason = _hold_reason(store, manifest, item["signed"])
+        content = data.decode("ascii")
+        if reason is not None:
+            held = store.hold_package(item["file_sha"], manifest["visit"], manifest["device"],
+                                      content, manifest.get("key"), reason)  # fmt: skip
+            return {**out, **held}
+        result = store.import_visit_records(
+            item["records"], item["file_sha"], _records_sha_of(data), manifest["device"],
+            content, signer_key=manifest["key"],
+        )  # fmt: skip
+    except StoreFaultError:
+        raise  # the store itself failed: not this file's fault, stop the import
+    except StoreError as exc:
+        return {**out, "visit": None, "status": "rejected", "message": f"rejected: {exc}"}
+    return {**out, **result}
+
+
 def import_file(store, path: str | os.PathLike) -> dict:
     """Import one package file into ``store``: {file, status, visit, message}.
 
     status: ``imported``, ``updated``, ``present`` (nothing changed), ``conflict`` (both copies
-    kept, a person must choose) or ``rejected`` (store unchanged; message says why).
+    kept, a person must choose), ``held`` (kept whole, not merged: unsigned, signature fails,
+    or its device's key is not trusted or retired; message says which) or ``rejected`` (store
+    unchanged; message says why).  Raises a StoreFaultError when the store itself fails.
     """
-    out = {"file": os.fspath(path), "visit": None}
-    try:
-        data = read_limited(path)
-        file_sha = sha256_hex(data)
-        seen = store.package_seen(file_sha)
-        if seen is not None:
-            unresolved = seen["status"] == "conflict" and seen["resolved"] is None
-            note = "unresolved conflict" if unresolved else "nothing changed"
-            return {**out, "visit": seen["visit_uuid"],
-                    "status": "conflict" if unresolved else "present",
-                    "message": f"already imported on {seen['imported'][:10]}; {note}"}  # fmt: skip
-        manifest, records = parse_package(data)
-        result = store.import_visit_records(
-            records, file_sha, _records_sha_of(data), manifest["device"], data.decode("ascii")
-        )
-    except StoreError as exc:
-        return {**out, "status": "rejected", "message": f"rejected: {exc}"}
-    return {**out, **result}
+    item = _prepare(store, os.fspath(path))
+    with store.transaction():
+        return _merge(store, item)
 
 
 def import_files(
     store,
     paths: Iterable[str | os.PathLike],
     batch: int = 200,
-    progress: Callable[[int, int], None] | None = None,
+    batch_bytes: int = BATCH_BYTES,
+    check: bool = True,
 ) -> list[dict]:
     """Import package files (folders expand to their packages); one :func:`import_file` dict
     per file, in order.
 
-    Each file is atomic on its own (a savepoint: a rejected file leaves no trace); up to
-    ``batch`` files share one durable commit, so the office waits for the disk once per batch.
-    ``progress(done, total)`` is called after each file.
+    The store is checked first (:meth:`Store.check_health`: a damaged store is refused with
+    how to recover).  Files are read and verified without the write lock; then each is merged
+    atomically on its own (a savepoint: a rejected file leaves no trace), up to ``batch`` files
+    and ``batch_bytes`` bytes sharing one durable commit, and no commit holding the lock for
+    much more than :data:`LOCK_BUDGET` seconds.  A fault of the store itself (full disk,
+    damage) stops the import with a StoreFaultError; files committed before stay imported.
     """
     files = expand_paths(paths)
+    if check and files:
+        store.check_health()
     results: list[dict] = []
-    for start in range(0, len(files), batch):
-        with store.transaction():
-            for path in files[start : start + batch]:
-                results.append(import_file(store, path))
-                if progress is not None:
-                    progress(len(results), len(files))
+    at = 0
+    while at < len(files):
+        prepared, size = [], 0
+        while at < len(files) and len(prepared) < batch and (not prepared or size < batch_bytes):
+            prepared.append(_prepare(store, files[at]))
+            size += prepared[-1]["size"]
+            at += 1
+        while prepared:
+            with store.transaction():
+                started = time.monotonic()
+                while prepared and (time.monotonic() - started < LOCK_BUDGET):
+                    results.append(_merge(store, prepared.pop(0)))
     return results
+
+
+def retry_held(store) -> list[dict]:
+    """Verify every held package again (after a device was trusted, say) and merge those
+    that may merge now; one :func:`import_file`-like dict per held package, ``file`` being
+    ``held:<checksum>``."""
+    results = []
+    for entry in store.held_packages():
+        data = store.held_content(entry["file_sha"]).encode("ascii")
+        item: dict[str, Any] = {"file": f"held:{entry['file_sha']}", "size": len(data),
+                                "result": None, "data": data, "file_sha": entry["file_sha"]}
+        try:  # fmt: skip
+            item["manifest"], item["records"] = parse_package(data)
+            item["signed"] = signature_valid(data, item["manifest"])
+        except PackageError as exc:
+            item["result"] = {"file": item["file"], "visit": entry["visit_uuid"],
+                              "status": "held", "message": f"held: {exc}"}  # fmt: skip
+        with store.transaction():
+            results.append(_merge(store, item))
+    return results
+

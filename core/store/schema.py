@@ -13,6 +13,10 @@ Versions:
 3. office import log: every package file accepted, with its checksum and outcome.
 4. index of station versions by visit and entry order, so saving a reading stays as fast with
    the thousandth reading of a visit as with the first.
+5. chain of custody: ``devices`` (signing keys: this store's own, and the devices the office
+   trusts, with who trusted each and when, and when a key was retired); the import log records
+   the key that signed each package (``signer_key``) and keeps held packages
+   (``status = 'held'``).
 """
 
 from __future__ import annotations
@@ -149,11 +153,34 @@ def _v4_entry_order_index(db: sqlite_utils.Database) -> None:
     db["station_versions"].create_index(["visit_uuid", "seq"])
 
 
+def _v5_custody(db: sqlite_utils.Database) -> None:
+    """Version 5: signing keys of devices, and the signer of every logged package."""
+    db["devices"].create(
+        {
+            "public_key": str,  # Ed25519 public key, 64 hex digits
+            "device_id": str,
+            "created": str,  # when the key pair was made (as the device says)
+            "own": int,  # 1: this store's own key (its private half is beside the store)
+            "trusted_by": str,  # who told this store to trust the key (person@host)
+            "trusted_at": str,
+            "retired_at": str,  # packages signed from then on are held
+            "retired_by": str,
+            "lost": int,  # 1: every package of this key is held, whatever time it claims
+            "note": str,
+        },
+        pk="public_key",
+    )
+    db["devices"].create_index(["device_id"])
+    db["packages"].add_column("signer_key", str)
+    db["packages"].create_index(["status", "resolved"])
+
+
 MIGRATIONS: list[Callable[[sqlite_utils.Database], None]] = [
     _v1_field_records,
     _v2_settings,
     _v3_import_log,
     _v4_entry_order_index,
+    _v5_custody,
 ]
 """``MIGRATIONS[k]`` carries a store from schema version ``k`` to ``k + 1``."""
 

@@ -1,11 +1,13 @@
-"""Stations of the store as append-only versions (part of :class:`stakeline.store.Store`).
+"""Stations as append-only versions: one part of :class:`stakeline.store.Store`.
 
 Each add, correction, removal and undo is a new ``station_versions`` row; nothing is
-overwritten.  The current station is its latest version not undone.
+overwritten.  The current station is its latest version not undone.  A version without a
+station or a reading (which only a foreign package could bring) is never a current station.
 """
 
 from __future__ import annotations
 
+from stakeline.store.connection import StoreConnection
 from stakeline.store.values import (
     STATION_FIELDS,
     StoreError,
@@ -18,8 +20,16 @@ from stakeline.store.values import (
 )
 
 
-class StoreStations:
-    """Reading, correcting, removing and undoing stations: methods of :class:`stakeline.store.Store`."""
+def _placed(version: dict) -> bool:
+    """Whether a version puts a reading at a station (both known)."""
+    return version["station"] is not None and version["reading"] is not None
+
+
+class Stations:
+    """Reading, correcting, removing and undoing the stations of a store's visits."""
+
+    def __init__(self, db: StoreConnection):
+        self.db = db
 
     _REDUCE_SQL = """
         SELECT v.method, v.line_left, v.line_right, v.stake_distance, v.backsight,
@@ -44,7 +54,10 @@ class StoreStations:
             "device": row["device"],
         }
         if datum is not None:
-            out["elevation"] = elevations(datum, [row["station"]], [row["reading"]])[0]
+            placed = _placed(row)
+            out["elevation"] = (
+                elevations(datum, [row["station"]], [row["reading"]])[0] if placed else None
+            )
         return out
 
     def save_station(
@@ -66,14 +79,14 @@ class StoreStations:
         stamp = now()
         row = {"uuid": new_uuid(), "station_uuid": new_uuid(), "visit_uuid": str(visit_uuid),
                "action": "add", **values, "seq": 0, "undoes": None, "created": stamp,
-               "device": self._device}  # fmt: skip
-        params = [*list(row.values())[:8], row["visit_uuid"], stamp, self._device]
-        with self.transaction():
-            found = self.conn.execute(self._REDUCE_SQL, [row["visit_uuid"]]).fetchone()
+               "device": self.db.device}  # fmt: skip
+        params = [*list(row.values())[:8], row["visit_uuid"], stamp, self.db.device]
+        with self.db.transaction():
+            found = self.db.conn.execute(self._REDUCE_SQL, [row["visit_uuid"]]).fetchone()
             if found is None:
                 raise StoreError(f"no visit with id {visit_uuid!r} in this store")
             # The entry number comes from the index on (visit_uuid, seq) inside the INSERT.
-            (row["seq"],) = self.conn.execute(self._ADD_SQL, params).fetchone()
+            (row["seq"],) = self.db.conn.execute(self._ADD_SQL, params).fetchone()
         return self._version_dict(row, row, dict(zip(self._DATUM_KEYS, found, strict=True)))
 
     _DATUM_KEYS = ("method", "line_left", "line_right", "stake_distance", "backsight", "origin",
@@ -89,18 +102,18 @@ class StoreStations:
     """
 
     def _versions(self, visit_uuid: str) -> list[dict]:
-        return self._rows(
+        return self.db.rows(
             "SELECT * FROM station_versions WHERE visit_uuid = ? ORDER BY id", [visit_uuid]
         )
 
     def stations(self, visit_uuid: str) -> list[dict]:
         """Current stations of a visit sorted by station, then entry order (so a vertical face
         keeps its two readings in the order read); dicts as :meth:`save_station`."""
-        datum = self._row(self._REDUCE_SQL, [str(visit_uuid)])
+        datum = self.db.row(self._REDUCE_SQL, [str(visit_uuid)])
         if datum is None:
             raise StoreError(f"no visit with id {visit_uuid!r} in this store")
         current, first, _ = replay(self._versions(visit_uuid))
-        live = [v for v in current.values() if v["action"] != "remove"]
+        live = [v for v in current.values() if v["action"] != "remove" and _placed(v)]
         live.sort(key=lambda v: (v["station"], v["seq"]))
         out = [self._version_dict(v, first[v["station_uuid"]], None) for v in live]
         heights = elevations(datum, [v["station"] for v in live], [v["reading"] for v in live])
@@ -109,7 +122,7 @@ class StoreStations:
         return out
 
     def _current(self, station_uuid: str) -> tuple[dict, dict]:
-        row = self._row(
+        row = self.db.row(
             "SELECT visit_uuid FROM station_versions WHERE station_uuid = ?", [str(station_uuid)]
         )
         if row is None:
@@ -128,13 +141,13 @@ class StoreStations:
             raise StoreError(f"cannot change {', '.join(sorted(unknown))} of a station")
         checks = {"station": number, "reading": number, "code": text, "note": text}
         changes = {k: checks[k](v, k) for k, v in changes.items()}
-        with self.transaction():
+        with self.db.transaction():
             old, first = self._current(station_uuid)
             row = {**old, **changes, "uuid": new_uuid(), "action": action, "created": now(),
-                   "device": self._device}  # fmt: skip
+                   "device": self.db.device}  # fmt: skip
             row.pop("id")
-            self._insert("station_versions", row)
-            datum = self._row(self._REDUCE_SQL, [row["visit_uuid"]])
+            self.db.insert("station_versions", row)
+            datum = self.db.row(self._REDUCE_SQL, [row["visit_uuid"]])
         return self._version_dict(row, first, datum)
 
     def correct_station(self, station_uuid: str, **changes) -> dict:
@@ -149,16 +162,16 @@ class StoreStations:
     def station_history(self, station_uuid: str) -> list[dict]:
         """Every version of a station, oldest first: :meth:`save_station`'s keys (``modified``
         is when that version was written) plus ``undone`` (bool)."""
-        versions = self._rows(
+        versions = self.db.rows(
             "SELECT * FROM station_versions WHERE station_uuid = ? AND action != 'undo' ORDER BY id",
             [station_uuid],
         )
         if not versions:
             raise StoreError(f"no station with id {station_uuid!r} in this store")
-        datum = self._row(self._REDUCE_SQL, [versions[0]["visit_uuid"]])
+        datum = self.db.row(self._REDUCE_SQL, [versions[0]["visit_uuid"]])
         undone = {
             r[0]
-            for r in self.conn.execute(
+            for r in self.db.conn.execute(
                 "SELECT undoes FROM station_versions WHERE visit_uuid = ? AND action = 'undo'",
                 [versions[0]["visit_uuid"]],
             )
@@ -177,7 +190,7 @@ class StoreStations:
         version (as :meth:`station_history`) with ``current``: the station now (or None when it
         no longer exists); None when there is nothing left to undo.
         """
-        with self.transaction():
+        with self.db.transaction():
             versions = self._versions(str(visit_uuid))
             _, first, undone = replay(versions)
             target = next(
@@ -190,13 +203,13 @@ class StoreStations:
             )
             if target is None:
                 return None
-            self._insert(
+            self.db.insert(
                 "station_versions",
                 {"uuid": new_uuid(), "station_uuid": target["station_uuid"],
                  "visit_uuid": target["visit_uuid"], "action": "undo", "seq": target["seq"],
-                 "undoes": target["uuid"], "created": now(), "device": self._device},
+                 "undoes": target["uuid"], "created": now(), "device": self.db.device},
             )  # fmt: skip
-        datum = self._row(self._REDUCE_SQL, [target["visit_uuid"]])
+        datum = self.db.row(self._REDUCE_SQL, [target["visit_uuid"]])
         result = self._version_dict(target, first[target["station_uuid"]], datum)
         result["undone"] = True
         try:

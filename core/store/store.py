@@ -7,42 +7,37 @@ undone.  Changes to a site, section or visit are logged in ``edits`` with the ol
 Every value is a bound parameter; every change is one transaction, committed before the method
 returns.  All lengths are in the visit's unit (``"m"`` or ``"ft"``), recorded with the visit.
 
-The store is the only part of Stakeline that speaks SQL.  It is split by topic, each part a
-mixin of :class:`Store`: :mod:`stakeline.store.schema` (tables and migrations),
-:mod:`stakeline.store.visits`, :mod:`stakeline.store.stations`, :mod:`stakeline.store.sync` (package export and
-office merge); :mod:`stakeline.store.values` holds its SQL-free validation and reduction.  Returned
+The store is the only part of Stakeline that speaks SQL.  :class:`Store` is composed of parts,
+each over one shared :class:`~stakeline.store.connection.StoreConnection` (the connection and
+its transaction helper): :class:`~stakeline.store.sites.Sites` (sites and sections),
+:class:`~stakeline.store.visits.Visits`, :class:`~stakeline.store.stations.Stations`,
+:class:`~stakeline.store.sync.Sync` (packages out, merge in, import log),
+:class:`~stakeline.store.settings.Settings` and :class:`~stakeline.store.devices.Devices`
+(signing keys and trust).  :mod:`stakeline.store.schema` holds the tables and migrations,
+:mod:`stakeline.store.values` and :mod:`stakeline.store.columns` the SQL-free rules.  Returned
 records are plain dicts; their keys are documented on each method and stay stable.
 """
 
 from __future__ import annotations
 
+import functools
 import json
 import os
-import sqlite3
-import uuid as uuidlib
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from importlib import resources
 from pathlib import Path
-from typing import Any
 
-import sqlite_utils
-from stakeline.store.schema import LATEST, migrate, schema_version
-from stakeline.store.stations import StoreStations
-from stakeline.store.sync import StoreSync
-from stakeline.store.values import (
-    METHODS,
-    SECTION_FIELDS,
-    StoreError,
-    canonical_json,
-    choice,
-    coordinates,
-    new_uuid,
-    now,
-    number,
-    text,
-)
-from stakeline.store.visits import StoreVisits
+from stakeline.store import health
+from stakeline.store.connection import LOCK_WAIT, StoreConnection, say_waiting
+from stakeline.store.devices import Devices
+from stakeline.store.schema import schema_version
+from stakeline.store.settings import Settings
+from stakeline.store.sites import Sites
+from stakeline.store.stations import Stations
+from stakeline.store.sync import Sync
+from stakeline.store.values import METHODS, StoreError
+from stakeline.store.visits import Visits
 
 __all__ = ["Store", "StoreError", "DEMO_PATH", "METHODS"]
 
@@ -50,65 +45,85 @@ DEMO_PATH = Path(str(resources.files("stakeline.demo_data").joinpath("tessaly_cr
 """The invented Tessaly Creek survey loaded by :meth:`Store.load_demo`."""
 
 
-class Store(StoreVisits, StoreStations, StoreSync):
+def _part(name: str, method: Callable) -> Callable:
+    """A public method of :class:`Store` that calls ``method`` of its part ``name``."""
+
+    @functools.wraps(method)
+    def call(self, *args, **kwargs):
+        return method(getattr(self, name), *args, **kwargs)
+
+    return call
+
+
+class Store:
     """A Stakeline store in one SQLite file; open with :meth:`open` or :meth:`memory`."""
 
-    def __init__(self, db: sqlite_utils.Database, path: str | None, device_id: str | None):
-        self.db = db
-        self.conn = db.conn
-        self.path = path
+    def __init__(self, connection: StoreConnection):
+        self._db = connection
+        self._sites = Sites(connection)
+        self._visits = Visits(connection)
+        self._stations = Stations(connection)
+        self._sync = Sync(connection)
+        self._settings = Settings(connection)
+        self._devices = Devices(connection)
         self.closed = False
-        self.conn.execute("PRAGMA foreign_keys = ON")
-        self.conn.execute("PRAGMA busy_timeout = 10000")
-        if path is not None:
-            mode = self.conn.execute("PRAGMA journal_mode = WAL").fetchone()[0]
-            if str(mode).lower() != "wal":
-                raise StoreError(f"{path}: cannot switch the store to WAL journal mode")
-        self.conn.execute("PRAGMA synchronous = FULL")
-        self._check_foreign()
-        if schema_version(self.conn) > LATEST:
-            raise StoreError(
-                f"{path}: store schema version {schema_version(self.conn)} is newer than this "
-                f"Stakeline understands ({LATEST}); update Stakeline"
-            )
-        migrate(db)
-        self.device_id = self._device_id(device_id)
-        self._device = self.device_id
 
     # -- opening and closing ------------------------------------------------------------------
     @classmethod
-    def open(cls, path: str | os.PathLike, device_id: str | None = None) -> Store:
+    def open(
+        cls,
+        path: str | os.PathLike,
+        device_id: str | None = None,
+        *,
+        readonly: bool = False,
+        on_wait: Callable[[str | None], None] | None = say_waiting,
+        lock_wait: float = LOCK_WAIT,
+    ) -> Store:
         """Open (creating or migrating) the store file at ``path``.
 
         ``device_id`` names this device in every record; when None the id stored in the file is
-        used, or a new one is made and kept in the file.
+        used, or a new one is made and kept in the file.  ``readonly=True`` opens an existing
+        store for commands that only read, also on a read-only file system (nothing is created
+        or migrated; writing raises StoreError).  A writer that finds the store locked by
+        another program calls ``on_wait(path)`` once (default: a line on stderr) and waits up
+        to ``lock_wait`` seconds.
         """
         path = os.fspath(path)
-        if os.path.isdir(path):
-            raise StoreError(f"{path} is a folder; give a store file name")
-        try:
-            os.makedirs(os.path.dirname(os.path.abspath(path)), exist_ok=True)
-            conn = sqlite3.connect(path, timeout=10, isolation_level=None)
-        except (OSError, sqlite3.OperationalError) as exc:
-            raise StoreError(f"cannot open the store {path} ({exc})") from None
-        try:
-            conn.execute("PRAGMA schema_version").fetchone()
-            return cls(sqlite_utils.Database(conn), path, device_id)
-        except sqlite3.OperationalError as exc:
-            conn.close()
-            raise StoreError(f"cannot use the store {path} ({exc})") from None
-        except sqlite3.DatabaseError as exc:
-            conn.close()
-            raise StoreError(f"{path} is not a Stakeline store ({exc})") from None
-        except BaseException:
-            conn.close()
-            raise
+        return cls(
+            StoreConnection.open(
+                path, device_id, readonly=readonly, on_wait=on_wait, lock_wait=lock_wait
+            )
+        )
 
     @classmethod
     def memory(cls, device_id: str | None = None) -> Store:
         """An in-memory store (for small tests; nothing is written to disk)."""
-        conn = sqlite3.connect(":memory:", isolation_level=None)
-        return cls(sqlite_utils.Database(conn), None, device_id)
+        return cls(StoreConnection.open(None, device_id))
+
+    @property
+    def conn(self):
+        """The SQLite connection (for tests and tools that read the file directly)."""
+        return self._db.conn
+
+    @property
+    def db(self):
+        """The store's ``sqlite_utils.Database`` (schema introspection)."""
+        return self._db.db
+
+    @property
+    def path(self) -> str | None:
+        """The store file's path (None in memory)."""
+        return self._db.path
+
+    @property
+    def readonly(self) -> bool:
+        """Whether the store was opened read-only."""
+        return self._db.readonly
+
+    @property
+    def device_id(self) -> str:
+        """The id of this device, stamped on every record it writes."""
+        return self._db.device_id
 
     def checkpoint(self) -> bool:
         """Copy the WAL journal into the main file and empty it (``wal_checkpoint(TRUNCATE)``).
@@ -116,30 +131,23 @@ class Store(StoreVisits, StoreStations, StoreSync):
         Called when the app pauses or stops, so a tablet that is then killed leaves one
         self-contained file.  Returns True when the journal was fully copied and truncated;
         False when another connection kept it busy (nothing is lost: the next checkpoint
-        finishes it).  An in-memory store has no journal file: True.
+        finishes it).  An in-memory or read-only store has no journal to empty: True.
         """
         if self.closed:
             raise StoreError("the store is closed; open it again to checkpoint")
-        if self.path is None:
+        if self.path is None or self.readonly:
             return True
-        # Another connection still reading must not stall a pause or a close: wait briefly,
-        # and leave the rest of the WAL to the next checkpoint if it is busy.
-        self.conn.execute("PRAGMA busy_timeout = 200")
-        try:
-            busy, _pages, _copied = self.conn.execute("PRAGMA wal_checkpoint(TRUNCATE)").fetchone()
-        except sqlite3.OperationalError:
-            return False
-        finally:
-            self.conn.execute("PRAGMA busy_timeout = 10000")
-        return busy == 0
+        return health.checkpoint(self._db)
 
     def close(self) -> None:
         """Checkpoint the WAL into the main file (TRUNCATE) and close; closing twice is fine."""
         if self.closed:
             return
-        self.checkpoint()
-        self.conn.close()
-        self.closed = True
+        try:
+            self.checkpoint()
+        finally:
+            self._db.conn.close()
+            self.closed = True
 
     def __enter__(self) -> Store:
         return self
@@ -150,258 +158,80 @@ class Store(StoreVisits, StoreStations, StoreSync):
     @property
     def schema_version(self) -> int:
         """The store file's schema version (see :mod:`stakeline.store.schema`)."""
-        return schema_version(self.conn)
+        return schema_version(self._db.conn)
 
     def integrity_check(self) -> str:
         """SQLite's ``PRAGMA integrity_check`` result (``"ok"`` when the file is sound)."""
-        return "; ".join(row[0] for row in self.conn.execute("PRAGMA integrity_check"))
+        return health.integrity_check(self._db)
 
-    def _check_foreign(self) -> None:
-        if schema_version(self.conn) == 0:
-            tables = self.conn.execute(
-                "SELECT count(*) FROM sqlite_master WHERE type = 'table'"
-            ).fetchone()[0]
-            if tables:
-                raise StoreError(f"{self.path} is an SQLite file but not a Stakeline store")
+    def check_health(self, full: bool | None = None) -> dict:
+        """Check the file before writing into it (import does this first); see
+        :func:`stakeline.store.health.check_health`.  Raises StoreCorruptError, saying how to
+        recover, when the file is damaged; returns {checked, seconds, bytes}."""
+        return health.check_health(self._db, self._settings, full)
 
-    def _device_id(self, wanted: str | None) -> str:
-        row = self.conn.execute("SELECT value FROM meta WHERE key = 'device_id'").fetchone()
-        if row is None:
-            device = text(wanted, "device id") or f"dev-{uuidlib.uuid4().hex[:12]}"
-            with self.transaction():
-                self.conn.execute("INSERT INTO meta (key, value) VALUES ('device_id', ?)", [device])
-            return device
-        return text(wanted, "device id") or row[0]
-
-    # -- SQL helpers --------------------------------------------------------------------------
     @contextmanager
     def transaction(self) -> Iterator[Store]:
         """One write transaction (``BEGIN IMMEDIATE``); nested blocks become savepoints."""
-        conn = self.conn
-        if conn.in_transaction:
-            conn.execute("SAVEPOINT nested")
-            try:
-                yield self
-            except BaseException:
-                conn.execute("ROLLBACK TO nested")
-                conn.execute("RELEASE nested")
-                raise
-            conn.execute("RELEASE nested")
-            return
-        conn.execute("BEGIN IMMEDIATE")
-        try:
+        with self._db.transaction():
             yield self
-        except BaseException:
-            if conn.in_transaction:
-                conn.execute("ROLLBACK")
-            raise
-        conn.execute("COMMIT")
 
     @contextmanager
     def as_device(self, device: str) -> Iterator[Store]:
         """Stamp records written inside the block with ``device`` (demo data, imports)."""
-        saved, self._device = self._device, text(device, "device id") or self.device_id
-        try:
+        with self._db.as_device(device):
             yield self
-        finally:
-            self._device = saved
 
-    def _rows(self, sql: str, params: tuple | list = ()) -> list[dict]:
-        cursor = self.conn.execute(sql, params)
-        keys = [d[0] for d in cursor.description]
-        return [dict(zip(keys, row, strict=True)) for row in cursor]
+    # -- the parts' public methods (each documented on its part) ------------------------------
+    create_site = _part("_sites", Sites.create_site)
+    sites = _part("_sites", Sites.sites)
+    create_section = _part("_sites", Sites.create_section)
+    update_section = _part("_sites", Sites.update_section)
+    section = _part("_sites", Sites.section)
+    sections = _part("_sites", Sites.sections)
 
-    def _row(self, sql: str, params: tuple | list = ()) -> dict | None:
-        rows = self._rows(sql, params)
-        return rows[0] if rows else None
+    start_visit = _part("_visits", Visits.start_visit)
+    update_visit = _part("_visits", Visits.update_visit)
+    finish_visit = _part("_visits", Visits.finish_visit)
+    reopen_visit = _part("_visits", Visits.reopen_visit)
+    set_planned_stations = _part("_visits", Visits.set_planned_stations)
+    planned_stations = _part("_visits", Visits.planned_stations)
+    visit = _part("_visits", Visits.visit)
+    visits = _part("_visits", Visits.visits)
+    add_water_level = _part("_visits", Visits.add_water_level)
+    add_override = _part("_visits", Visits.add_override)
+    overrides = _part("_visits", Visits.overrides)
+    field_history = _part("_visits", Visits.field_history)
 
-    def _get(self, table: str, uuid: str, what: str) -> dict:
-        row = self._row(f"SELECT * FROM {table} WHERE uuid = ?", [str(uuid)])
-        if row is None:
-            raise StoreError(f"no {what} with id {uuid!r} in this store")
-        return row
+    save_station = _part("_stations", Stations.save_station)
+    stations = _part("_stations", Stations.stations)
+    correct_station = _part("_stations", Stations.correct_station)
+    remove_station = _part("_stations", Stations.remove_station)
+    station_history = _part("_stations", Stations.station_history)
+    undo = _part("_stations", Stations.undo)
 
-    def _insert(self, table: str, record: dict) -> None:
-        columns = ", ".join(record)
-        marks = ", ".join("?" for _ in record)
-        self.conn.execute(
-            f"INSERT INTO {table} ({columns}) VALUES ({marks})", list(record.values())
-        )
+    visit_records = _part("_sync", Sync.visit_records)
+    package_seen = _part("_sync", Sync.package_seen)
+    conflicts = _part("_sync", Sync.conflicts)
+    package_content = _part("_sync", Sync.package_content)
+    resolve_conflict = _part("_sync", Sync.resolve_conflict)
+    import_visit_records = _part("_sync", Sync.import_visit_records)
+    held_packages = _part("_sync", Sync.held_packages)
+    held_content = _part("_sync", Sync.held_content)
+    hold_package = _part("_sync", Sync.hold_package)
+    visit_signer = _part("_sync", Sync.visit_signer)
 
-    def _stamped(self, **fields) -> dict:
-        stamp = now()
-        return {"uuid": new_uuid(), **fields, "created": stamp, "modified": stamp,
-                "device": self._device}  # fmt: skip
+    get_setting = _part("_settings", Settings.get_setting)
+    set_setting = _part("_settings", Settings.set_setting)
 
-    def _update(self, table: str, uuid: str, columns: dict) -> None:
-        """Change columns of one site/section/visit row and log the old and new values."""
-        row = self._row(f"SELECT * FROM {table} WHERE uuid = ?", [uuid])
-        changed = {k: v for k, v in columns.items() if row[k] != v}
-        if not changed:
-            return
-        stamp = now()
-        assignments = ", ".join(f"{k} = ?" for k in changed)
-        self.conn.execute(
-            f"UPDATE {table} SET {assignments}, modified = ?, device = ? WHERE uuid = ?",
-            [*changed.values(), stamp, self._device, uuid],
-        )
-        self._insert(
-            "edits",
-            {
-                "uuid": new_uuid(),
-                "record_table": table,
-                "record_uuid": uuid,
-                "before": canonical_json({k: row[k] for k in changed}),
-                "after": canonical_json(changed),
-                "created": stamp,
-                "device": self._device,
-            },
-        )
-
-    # -- sites and sections -------------------------------------------------------------------
-    def create_site(self, name: str, stream: str = "", description: str = "") -> dict:
-        """Add a site; returns {uuid, name, stream, description, created, modified, device}."""
-        if not text(name, "site name").strip():
-            raise StoreError("a site needs a name")
-        record = self._stamped(
-            name=name.strip(),
-            stream=text(stream, "stream"),
-            description=text(description, "description"),
-        )
-        with self.transaction():
-            self._insert("sites", record)
-        return record
-
-    def sites(self) -> list[dict]:
-        """All sites by name (same keys as :meth:`create_site`)."""
-        return self._rows("SELECT * FROM sites ORDER BY name COLLATE NOCASE, created")
-
-    def _section_columns(self, fields: dict) -> dict:
-        unknown = set(fields) - set(SECTION_FIELDS)
-        if unknown:
-            raise StoreError(f"cannot set {', '.join(sorted(unknown))} on a section")
-        columns: dict[str, Any] = {}
-        for key, value in fields.items():
-            if key == "origin":
-                columns[key] = choice(value, ("left", "right"), "origin")
-            elif key == "benchmark_elevation":
-                columns[key] = number(value, "benchmark elevation", optional=True)
-            elif key == "benchmark_assumed":
-                columns[key] = int(bool(value))
-            elif key.endswith("_coordinates"):
-                side = key.split("_")[0]
-                columns[f"{side}_lon"], columns[f"{side}_lat"] = coordinates(
-                    value, f"{side} stake coordinates"
-                )
-            else:
-                columns[key] = text(value, key.replace("_", " ")).strip()
-        if "name" in columns and not columns["name"]:
-            raise StoreError("a section needs a name")
-        return columns
-
-    def create_section(
-        self,
-        site_uuid: str,
-        name: str,
-        left_stake: str = "L",
-        right_stake: str = "R",
-        origin: str = "left",
-        benchmark_name: str = "",
-        benchmark_elevation: float | None = None,
-        left_coordinates: tuple[float, float] | None = None,
-        right_coordinates: tuple[float, float] | None = None,
-        benchmark_assumed: bool = False,
-    ) -> dict:
-        """Add a cross-section to a site; returns :meth:`section`'s dict.
-
-        Stakes are named as seen looking downstream; ``origin`` is the stake the tape starts at
-        (``"left"`` or ``"right"``).  Coordinates are (longitude, latitude) in degrees (WGS 84).
-        """
-        self._get("sites", site_uuid, "site")
-        columns = self._section_columns(
-            dict(
-                name=name,
-                left_stake=left_stake,
-                right_stake=right_stake,
-                origin=origin,
-                benchmark_name=benchmark_name,
-                benchmark_elevation=benchmark_elevation,
-                benchmark_assumed=benchmark_assumed,
-                left_coordinates=left_coordinates,
-                right_coordinates=right_coordinates,
-            )
-        )
-        record = self._stamped(site_uuid=site_uuid, **columns)
-        with self.transaction():
-            self._insert("sections", record)
-        return self.section(record["uuid"])
-
-    def update_section(self, section_uuid: str, **fields) -> dict:
-        """Change fields of a section (any of ``SECTION_FIELDS``); old values stay in history."""
-        self._get("sections", section_uuid, "section")
-        columns = self._section_columns(fields)
-        with self.transaction():
-            self._update("sections", section_uuid, columns)
-        return self.section(section_uuid)
-
-    _SECTION_SQL = """
-        SELECT s.*, t.name AS site,
-          (SELECT v.date FROM visits v WHERE v.section_uuid = s.uuid
-            ORDER BY v.date DESC, v.created DESC LIMIT 1) AS last_visit_date,
-          (SELECT CASE WHEN v.finished IS NULL THEN 'open' ELSE 'finished' END
-             FROM visits v WHERE v.section_uuid = s.uuid
-            ORDER BY v.date DESC, v.created DESC LIMIT 1) AS last_visit_status
-        FROM sections s JOIN sites t ON t.uuid = s.site_uuid
-    """
-
-    @staticmethod
-    def _section_dict(row: dict) -> dict:
-        for side in ("left", "right"):
-            lon, lat = row.pop(f"{side}_lon"), row.pop(f"{side}_lat")
-            row[f"{side}_coordinates"] = None if lon is None else (lon, lat)
-        row["benchmark_assumed"] = bool(row["benchmark_assumed"])
-        return row
-
-    def section(self, section_uuid: str) -> dict:
-        """One section: uuid, site_uuid, site (name), name, left_stake, right_stake, origin,
-        benchmark_name, benchmark_elevation, benchmark_assumed, left_coordinates,
-        right_coordinates ((lon, lat) or None), last_visit_date, last_visit_status
-        ('open', 'finished' or None), created, modified, device."""
-        row = self._row(self._SECTION_SQL + " WHERE s.uuid = ?", [str(section_uuid)])
-        if row is None:
-            raise StoreError(f"no section with id {section_uuid!r} in this store")
-        return self._section_dict(row)
-
-    def sections(self, site_uuid: str | None = None) -> list[dict]:
-        """Sections (of one site, or all) sorted by site and name; keys as :meth:`section`."""
-        where, params = ("WHERE s.site_uuid = ?", [site_uuid]) if site_uuid else ("", [])
-        rows = self._rows(
-            self._SECTION_SQL + where + " ORDER BY t.name COLLATE NOCASE, s.name COLLATE NOCASE",
-            params,
-        )
-        return [self._section_dict(row) for row in rows]
-
-    # -- device settings ----------------------------------------------------------------------
-    def get_setting(self, key: str, default: Any = None) -> Any:
-        """A device setting's value (any JSON value), or ``default`` when unset."""
-        row = self.conn.execute("SELECT value FROM settings WHERE key = ?", [key]).fetchone()
-        return default if row is None else json.loads(row[0])
-
-    def set_setting(self, key: str, value: Any) -> None:
-        """Set a device setting (unit, crew, precision, tolerances...) to a JSON value."""
-        try:
-            value_json = canonical_json(value)
-        except (TypeError, ValueError):
-            raise StoreError(
-                f"setting {key!r} must be a JSON value (text, number, list...)"
-            ) from None
-        with self.transaction():
-            self.conn.execute(
-                "INSERT INTO settings (key, value, modified) VALUES (?, ?, ?) "
-                "ON CONFLICT (key) DO UPDATE SET value = excluded.value, "
-                "modified = excluded.modified",
-                [text(key, "setting name"), value_json, now()],
-            )
+    signing_key = _part("_devices", Devices.signing_key)
+    device_key = _part("_devices", Devices.device_key)
+    export_device_key = _part("_devices", Devices.export_device_key)
+    trust_device = _part("_devices", Devices.trust_device)
+    retire_device = _part("_devices", Devices.retire_device)
+    device = _part("_devices", Devices.device)
+    devices = _part("_devices", Devices.devices)
+    signer_verdict = _part("_devices", Devices.signer_verdict)
 
     # -- demo data ----------------------------------------------------------------------------
     def load_demo(self, json_path: str | os.PathLike | None = None) -> list[dict]:

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import json
 import os
+import re
 import uuid as uuidlib
 from datetime import UTC, date, datetime
 from typing import Any
@@ -99,12 +100,25 @@ def choice(value: Any, allowed: tuple[str, ...], what: str) -> str:
     return value
 
 
+_ISO_DATE = re.compile(r"\A[0-9]{4}-[0-9]{2}-[0-9]{2}\Z")
+
+
 def iso_date(value: Any) -> str:
-    """``value`` as an ISO calendar date (``2026-04-14``); else StoreError."""
-    try:
-        return date.fromisoformat(str(value)).isoformat()
-    except ValueError:
-        raise StoreError(f"date {value!r} is not a date like 2026-04-14") from None
+    """``value`` as an ISO calendar date (``2026-04-14``): exactly YYYY-MM-DD, a real day of
+    the calendar, nothing before or after; else StoreError.
+
+    >>> iso_date("2026-04-14")
+    '2026-04-14'
+    """
+    if isinstance(value, date) and not isinstance(value, datetime):
+        return value.isoformat()
+    if isinstance(value, str) and _ISO_DATE.match(value):
+        try:
+            return date.fromisoformat(value).isoformat()
+        except ValueError:
+            pass
+    shown = str(value)[:40] if isinstance(value, str) else type(value).__name__
+    raise StoreError(f"date {shown!r} is not a calendar date like 2026-04-14")
 
 
 def coordinates(value: Any, what: str) -> tuple[float | None, float | None]:

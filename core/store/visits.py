@@ -1,4 +1,4 @@
-"""Visits of the store: field metadata, water levels, overrides (part of :class:`stakeline.store.Store`).
+"""Visits: field metadata, water levels, overrides -- one part of :class:`stakeline.store.Store`.
 
 Every change is one transaction; changed fields are logged in ``edits`` with old and new values.
 """
@@ -9,6 +9,8 @@ import json
 from typing import Any
 
 from stakeline.errors import SurveyError
+from stakeline.store.columns import check_columns
+from stakeline.store.connection import StoreConnection
 from stakeline.store.values import (
     METHODS,
     TEXT_LIMIT,
@@ -24,10 +26,14 @@ from stakeline.store.values import (
 from stakeline.survey import reduction
 
 
-class StoreVisits:
-    """Visit, water-level and override methods of :class:`stakeline.store.Store`."""
+class Visits:
+    """Visits, water levels and overrides of a store, over its shared connection."""
 
-    def _visit_columns(self, fields: dict) -> dict:
+    def __init__(self, db: StoreConnection):
+        self.db = db
+
+    @staticmethod
+    def _visit_columns(fields: dict) -> dict:
         unknown = set(fields) - set(VISIT_FIELDS)
         if unknown:
             raise StoreError(f"cannot set {', '.join(sorted(unknown))} on a visit")
@@ -41,7 +47,7 @@ class StoreVisits:
             elif key == "unit":
                 try:
                     columns[key] = reduction.check_unit(value)
-                except SurveyError as exc:
+                except (SurveyError, TypeError) as exc:
                     raise StoreError(str(exc)) from None
             elif key == "method":
                 columns[key] = choice(value, METHODS, "method")
@@ -58,7 +64,7 @@ class StoreVisits:
                 columns[key] = number(value, key.replace("_", " "), optional=True)
         if (columns.get("stake_distance") or 1) <= 0:
             raise StoreError("the distance between the stakes must be positive")
-        return columns
+        return check_columns("visits", columns)
 
     def start_visit(
         self,
@@ -80,17 +86,17 @@ class StoreVisits:
         ``line_check`` the level check (survey unit); ``stake_distance`` the taped distance
         between stakes; ``backsight`` the benchmark backsight for the ``"rod"`` method.
         """
-        self._get("sections", section_uuid, "section")
+        self.db.get("sections", section_uuid, "section")
         columns = self._visit_columns(
             dict(date=date, crew=crew, unit=unit, method=method, line_left=line_left,
                  line_right=line_right, line_check=line_check, notes=notes,
                  stake_distance=stake_distance, backsight=backsight)
         )  # fmt: skip
-        record = self._stamped(
+        record = self.db.stamped(
             section_uuid=section_uuid, planned="[]", settings="{}", finished=None, **columns
         )
-        with self.transaction():
-            self._insert("visits", record)
+        with self.db.transaction():
+            self.db.insert("visits", record)
         return self.visit(record["uuid"])
 
     def update_visit(self, visit_uuid: str, **fields) -> dict:
@@ -98,29 +104,29 @@ class StoreVisits:
 
         The length unit cannot change once readings exist (they are in that unit).
         """
-        visit = self._get("visits", visit_uuid, "visit")
+        visit = self.db.get("visits", visit_uuid, "visit")
         columns = self._visit_columns(fields)
         if columns.get("unit", visit["unit"]) != visit["unit"] and self._station_count(visit_uuid):
             raise StoreError(
                 f"this visit already has readings in {visit['unit']}; its unit cannot change"
             )
-        with self.transaction():
-            self._update("visits", visit_uuid, columns)
+        with self.db.transaction():
+            self.db.update("visits", visit_uuid, columns)
         return self.visit(visit_uuid)
 
     def finish_visit(self, visit_uuid: str) -> dict:
         """Mark a visit finished (ready to pack); returns :meth:`visit`'s dict."""
-        visit = self._get("visits", visit_uuid, "visit")
+        visit = self.db.get("visits", visit_uuid, "visit")
         if visit["finished"] is None:
-            with self.transaction():
-                self._update("visits", visit_uuid, {"finished": now()})
+            with self.db.transaction():
+                self.db.update("visits", visit_uuid, {"finished": now()})
         return self.visit(visit_uuid)
 
     def reopen_visit(self, visit_uuid: str) -> dict:
         """Clear a visit's finished mark so the crew can go on; returns :meth:`visit`'s dict."""
-        self._get("visits", visit_uuid, "visit")
-        with self.transaction():
-            self._update("visits", visit_uuid, {"finished": None})
+        self.db.get("visits", visit_uuid, "visit")
+        with self.db.transaction():
+            self.db.update("visits", visit_uuid, {"finished": None})
         return self.visit(visit_uuid)
 
     def set_planned_stations(self, visit_uuid: str, stations: list[float]) -> None:
@@ -129,23 +135,24 @@ class StoreVisits:
 
     def planned_stations(self, visit_uuid: str) -> list[float]:
         """The spacing plan set by :meth:`set_planned_stations` (survey unit)."""
-        return json.loads(self._get("visits", visit_uuid, "visit")["planned"])
+        return json.loads(self.db.get("visits", visit_uuid, "visit")["planned"])
 
     _LIVE_SQL = """
         WITH undone AS (SELECT undoes FROM station_versions WHERE action = 'undo'{where}),
         live AS (SELECT max(id) AS id FROM station_versions
                  WHERE action != 'undo' AND uuid NOT IN undone{where} GROUP BY station_uuid)
         SELECT sv.visit_uuid, count(*) AS n FROM live JOIN station_versions sv ON sv.id = live.id
-        WHERE sv.action != 'remove' GROUP BY sv.visit_uuid
+        WHERE sv.action != 'remove' AND sv.station IS NOT NULL AND sv.reading IS NOT NULL
+        GROUP BY sv.visit_uuid
     """
 
     def _station_counts(self, visit_uuid: str | None = None) -> dict[str, int]:
         if visit_uuid is None:
-            rows = self.conn.execute(self._LIVE_SQL.format(where=""))
+            rows = self.db.rows(self._LIVE_SQL.format(where=""))
         else:
             sql = self._LIVE_SQL.format(where=" AND visit_uuid = ?")
-            rows = self.conn.execute(sql, [visit_uuid, visit_uuid])
-        return dict(rows.fetchall())
+            rows = self.db.rows(sql, [visit_uuid, visit_uuid])
+        return {row["visit_uuid"]: row["n"] for row in rows}
 
     def _station_count(self, visit_uuid: str) -> int:
         return self._station_counts(visit_uuid).get(visit_uuid, 0)
@@ -182,11 +189,11 @@ class StoreVisits:
         finished_at (time or None), station_count, conflict (bool: an imported copy differs),
         water_levels (list of :meth:`add_water_level` dicts, by time), created, modified,
         device."""
-        row = self._row(self._VISIT_SQL + " WHERE v.uuid = ?", [str(visit_uuid)])
+        row = self.db.row(self._VISIT_SQL + " WHERE v.uuid = ?", [str(visit_uuid)])
         if row is None:
             raise StoreError(f"no visit with id {visit_uuid!r} in this store")
         visit = self._visit_dict(row, self._station_counts(visit_uuid))
-        visit["water_levels"] = self._rows(
+        visit["water_levels"] = self.db.rows(
             "SELECT * FROM water_levels WHERE visit_uuid = ? ORDER BY time, created", [visit_uuid]
         )
         return visit
@@ -196,7 +203,7 @@ class StoreVisits:
         site, section, date, station_count, finished, plus the keys of :meth:`visit` except
         water_levels."""
         where, params = ("WHERE v.section_uuid = ?", [section_uuid]) if section_uuid else ("", [])
-        rows = self._rows(
+        rows = self.db.rows(
             self._VISIT_SQL + where + " ORDER BY v.date, t.name, s.name, v.created", params
         )
         counts = self._station_counts()
@@ -205,35 +212,35 @@ class StoreVisits:
     def add_water_level(self, visit_uuid: str, elevation: float, time: str | None = None) -> dict:
         """Record a water-level observation (elevation, survey unit) at ``time`` (ISO 8601; now
         when None); returns {uuid, visit_uuid, elevation, time, created, modified, device}."""
-        self._get("visits", visit_uuid, "visit")
-        record = self._stamped(
+        self.db.get("visits", visit_uuid, "visit")
+        record = self.db.stamped(
             visit_uuid=visit_uuid,
             elevation=number(elevation, "water level"),
             time=text(time, "time") or now(),
         )
-        with self.transaction():
-            self._insert("water_levels", record)
+        with self.db.transaction():
+            self.db.insert("water_levels", record)
         return record
 
     def add_override(self, visit_uuid: str, kind: str, station: float | None, reason: str) -> dict:
         """Record why a field-check finding is accepted; returns {uuid, visit_uuid, kind,
         station (survey unit or None), reason, created, modified, device}."""
-        self._get("visits", visit_uuid, "visit")
+        self.db.get("visits", visit_uuid, "visit")
         if not text(reason, "reason").strip():
             raise StoreError("an override needs a written reason")
-        record = self._stamped(
+        record = self.db.stamped(
             visit_uuid=visit_uuid,
             kind=text(kind, "finding kind"),
             station=number(station, "station", optional=True),
             reason=reason.strip(),
         )
-        with self.transaction():
-            self._insert("overrides", record)
+        with self.db.transaction():
+            self.db.insert("overrides", record)
         return record
 
     def overrides(self, visit_uuid: str) -> list[dict]:
         """The visit's overrides, oldest first (keys as :meth:`add_override`)."""
-        return self._rows(
+        return self.db.rows(
             "SELECT * FROM overrides WHERE visit_uuid = ? ORDER BY created", [visit_uuid]
         )
 
@@ -241,7 +248,7 @@ class StoreVisits:
         """Every change to a site's, section's or visit's fields, oldest first: {uuid,
         record_table, record_uuid, before, after (dicts of the changed fields' stored values),
         created, modified (= created), device}."""
-        rows = self._rows(
+        rows = self.db.rows(
             "SELECT * FROM edits WHERE record_uuid = ? ORDER BY id", [str(record_uuid)]
         )
         for row in rows:

@@ -12,6 +12,7 @@ from pathlib import Path
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
+from custody_helpers import trust
 from stakeline.store import Store, StoreError, package
 from stakeline.store.package import (
     MAX_BYTES,
@@ -39,8 +40,9 @@ def field(tmp_path):
 
 
 @pytest.fixture
-def office(tmp_path):
+def office(tmp_path, field):
     store = Store.open(tmp_path / "office.db", device_id="office")
+    trust(store, field)  # the office has trusted the field tablet's key file
     yield store
     store.close()
 
@@ -179,12 +181,15 @@ def test_size_limit_stops_huge_files(office, tmp_path):
     assert result["status"] == "rejected" and "limit" in result["message"]
 
 
-def _resign(path: Path, change) -> bytes:
-    """A tampered package with a freshly computed checksum (what a forger could make)."""
+def _resign(path: Path, change, signer: Store) -> bytes:
+    """A tampered package with a freshly computed checksum and signature (what a forger holding
+    a trusted device's key could make)."""
     document = json.loads(path.read_bytes())
     change(document["records"])
     manifest = document["manifest"]
-    return build_package(document["records"], manifest["device"], manifest["created"])
+    return build_package(
+        document["records"], manifest["device"], manifest["created"], signer.signing_key()
+    )
 
 
 @pytest.mark.parametrize(
@@ -201,17 +206,17 @@ def _resign(path: Path, change) -> bytes:
     ],
 )
 def test_tampered_records_are_rejected_even_with_a_valid_checksum(
-    office, outbox, tmp_path, change, reason
+    field, office, outbox, tmp_path, change, reason
 ):
     forged = tmp_path / "forged.stakeline-visit.json"
-    forged.write_bytes(_resign(_one(outbox), change))
+    forged.write_bytes(_resign(_one(outbox), change, field))
     before = _dump(office)
     result = import_file(office, forged)
     assert result["status"] == "rejected" and reason in result["message"], result
     assert _dump(office) == before
 
 
-def test_record_clashing_with_another_visit_is_rejected(office, outbox, tmp_path):
+def test_record_clashing_with_another_visit_is_rejected(field, office, outbox, tmp_path):
     import_files(office, [outbox])
     other = json.loads(_one(outbox, "2026-09-22").read_bytes())["records"]
     stolen = other["station_versions"][0]["uuid"]
@@ -225,9 +230,11 @@ def test_record_clashing_with_another_visit_is_rejected(office, outbox, tmp_path
         records["edits"] = [e for e in records["edits"] if e["record_table"] != "visits"]
 
     forged = tmp_path / "clash.stakeline-visit.json"
-    doc = json.loads(_resign(_one(outbox), clash))
+    doc = json.loads(_resign(_one(outbox), clash, field))
     doc["manifest"]["visit"] = doc["records"]["visit"]["uuid"]
-    forged.write_bytes(build_package(doc["records"], "tablet-A", doc["manifest"]["created"]))
+    forged.write_bytes(
+        build_package(doc["records"], "tablet-A", doc["manifest"]["created"], field.signing_key())
+    )
     before = _dump(office)
     result = import_file(office, forged)
     assert result["status"] == "rejected" and "clash" in result["message"]
@@ -247,6 +254,7 @@ def test_same_visit_edited_on_two_devices_is_a_conflict_keeping_both(
         station = a.stations(visit)[4]["uuid"]
         a.correct_station(station, reading=1.111)
         b.correct_station(station, reading=1.999)
+        trust(office, a, b)
         pack_visits(a, tmp_path / "from-a")
         pack_visits(b, tmp_path / "from-b")
     finally:
@@ -312,7 +320,7 @@ def test_pack_is_atomic_and_refuses_a_file_as_outbox(field, tmp_path, monkeypatc
     assert os.listdir(tmp_path / "box") == []  # no half-written package under any name
 
 
-def test_a_rejected_file_in_a_batch_leaves_no_trace(office, outbox, tmp_path):
+def test_a_rejected_file_in_a_batch_leaves_no_trace(field, office, outbox, tmp_path):
     files = sorted(outbox.iterdir())
     import_files(office, files[:1])
     first = json.loads(files[0].read_bytes())["records"]
@@ -321,7 +329,7 @@ def test_a_rejected_file_in_a_batch_leaves_no_trace(office, outbox, tmp_path):
         records["station_versions"][-1]["uuid"] = first["station_versions"][0]["uuid"]
 
     forged = tmp_path / "clash.stakeline-visit.json"
-    forged.write_bytes(_resign(files[1], clash))
+    forged.write_bytes(_resign(files[1], clash, field))
     results = import_files(office, [files[2], forged, files[1]])
     assert [r["status"] for r in results] == ["imported", "rejected", "imported"]
     assert "clash" in results[1]["message"]
@@ -339,6 +347,7 @@ def test_section_edited_on_two_devices_is_reported(field, office, outbox, tmp_pa
         section = a.sections()[0]["uuid"]
         a.update_section(section, benchmark_name="BM-A (re-set 2026)")
         b.update_section(section, left_coordinates=(-2.6121, 51.4301))
+        trust(office, a, b)
         for store, box in ((a, "from-a"), (b, "from-b")):
             visit = store.start_visit(section, "2026-10-01", line_left=101.2)
             store.save_station(visit["uuid"], 0.0, 0.3)
@@ -375,6 +384,7 @@ def test_any_visit_round_trips_through_a_package(tmp_path_factory, names, points
     folder = tmp_path_factory.mktemp("round")
     field = Store.open(folder / "f.db", device_id="tablet-Ü")
     office = Store.open(folder / "o.db", device_id="office")
+    trust(office, field)
     try:
         site = field.create_site(names[0].strip() or "site", stream=names[1])
         section = field.create_section(site["uuid"], names[2].strip() or "xs")
@@ -409,6 +419,7 @@ def test_conflict_merged_keeps_both_devices_changes(field, office, outbox, tmp_p
         b.remove_station(stations[9]["uuid"])  # only B removes station 9
         b.update_visit(visit, notes="B's notes", crew=["R. Okafor", "T. Berg"])
         b.add_water_level(visit, 99.95, "2026-04-14T13:00")
+        trust(office, a, b)
         pack_visits(a, tmp_path / "from-a")
         pack_visits(b, tmp_path / "from-b")
     finally:

@@ -7,6 +7,7 @@ import sqlite3
 
 import pytest
 import sqlite_utils
+from custody_helpers import trust
 from stakeline.store import Store
 from stakeline.store import schema as store_schema
 from stakeline.store.package import import_files, pack_visits
@@ -76,6 +77,7 @@ def test_every_earlier_version_migrates_to_the_latest(tmp_path, version):
 def test_migrated_store_packs_and_imports(tmp_path, version):
     _old_store(tmp_path / "old.db", version)
     with Store.open(tmp_path / "old.db") as field, Store.open(tmp_path / "office.db") as office:
+        trust(office, field)
         pack_visits(field, tmp_path / "out")
         results = import_files(office, [tmp_path / "out"])
         assert [r["status"] for r in results] == ["imported"]
@@ -95,7 +97,11 @@ def test_each_step_adds_what_it_says(tmp_path):
     assert "packages" in db.table_names()
     migrate(db, target=4)
     assert any(i.columns == ["visit_uuid", "seq"] for i in db["station_versions"].indexes)
-    assert schema_version(conn) == 4 == LATEST
+    assert schema_version(conn) == 4
+    migrate(db, target=5)
+    assert "devices" in db.table_names()
+    assert "signer_key" in db["packages"].columns_dict
+    assert schema_version(conn) == 5 == LATEST
     conn.close()
 
 

@@ -1,0 +1,198 @@
+"""What the records of a visit package may hold: every field of every record kind, with its
+kind of value, and the checks that a package's records form one self-consistent visit.  No SQL.
+
+Used by :mod:`stakeline.store.package` on every package before anything reaches the store:
+numbers are finite and of sane size (no integer SQLite cannot hold), dates are real calendar
+dates written YYYY-MM-DD, an added or corrected station has both a station and a reading, and
+each logged field change (``edits``) obeys the store's own column rules
+(:mod:`stakeline.store.columns`) -- so no package can bring a value the store's own setters
+would refuse.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Callable
+from typing import Any
+
+from stakeline.store.columns import TIME_LIMIT, check_columns
+from stakeline.store.values import METHODS, TEXT_LIMIT, StoreError, iso_date
+from stakeline.survey.reduction import UNITS
+
+MAX_ROWS = 20_000
+"""Most records of one kind (station versions, edits...) accepted in one package."""
+
+MAX_INTEGER = 2**53
+"""Largest magnitude of a whole number in a package (exact as a float, fits SQLite)."""
+
+MAX_COUNT = 2**31 - 1
+"""Largest entry number (``seq``) of a station version."""
+
+
+class PackageError(StoreError):
+    """A package file that cannot be imported; the message is the one-line reason."""
+
+
+_UUID = re.compile(r"\A[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}\Z")
+_STAMPS = {"created": "time", "modified": "time", "device": "text"}
+FIELDS: dict[str, dict[str, str]] = {
+    "site": {"uuid": "uuid", "name": "text", "stream": "text", "description": "text", **_STAMPS},
+    "section": {
+        "uuid": "uuid", "site_uuid": "uuid", "name": "text", "left_stake": "text",
+        "right_stake": "text", "origin": "origin", "benchmark_name": "text",
+        "benchmark_elevation": "number?", "benchmark_assumed": "flag", "left_lon": "number?",
+        "left_lat": "number?", "right_lon": "number?", "right_lat": "number?", **_STAMPS,
+    },
+    "visit": {
+        "uuid": "uuid", "section_uuid": "uuid", "date": "date", "crew": "names", "unit": "unit",
+        "method": "method", "line_left": "number?", "line_right": "number?",
+        "line_check": "number?", "stake_distance": "number?", "backsight": "number?",
+        "notes": "text", "planned": "numbers", "settings": "object", "finished": "time?",
+        **_STAMPS,
+    },
+    "edits": {
+        "uuid": "uuid", "record_table": "table", "record_uuid": "uuid", "before": "object",
+        "after": "object", "created": "time", "device": "text",
+    },
+    "station_versions": {
+        "uuid": "uuid", "station_uuid": "uuid", "visit_uuid": "uuid", "action": "action",
+        "station": "number?", "reading": "number?", "code": "text?", "note": "text?",
+        "seq": "count", "undoes": "uuid?", "created": "time", "device": "text",
+    },
+    "water_levels": {
+        "uuid": "uuid", "visit_uuid": "uuid", "elevation": "number", "time": "time", **_STAMPS,
+    },
+    "overrides": {
+        "uuid": "uuid", "visit_uuid": "uuid", "kind": "text", "station": "number?",
+        "reason": "text", **_STAMPS,
+    },
+}  # fmt: skip
+"""Every field of every record kind in a package, with its kind of value."""
+
+LISTS = ("edits", "station_versions", "water_levels", "overrides")
+CHOICES = {
+    "origin": ("left", "right"),
+    "unit": tuple(UNITS),
+    "method": METHODS,
+    "table": ("sites", "sections", "visits"),
+    "action": ("add", "correct", "remove", "undo"),
+}
+OWNER_TABLES = {"site": "sites", "section": "sections", "visit": "visits"}
+
+
+def is_number(value: Any) -> bool:
+    """A finite JSON number Stakeline could have written: a float, or a whole number of at
+    most :data:`MAX_INTEGER` in magnitude."""
+    if type(value) is float:
+        return math.isfinite(value)
+    return type(value) is int and -MAX_INTEGER <= value <= MAX_INTEGER
+
+
+def _is_text(value: Any, limit: int = TEXT_LIMIT) -> bool:
+    return type(value) is str and len(value) <= limit
+
+
+def _is_date(value: Any) -> bool:
+    try:
+        return type(value) is str and iso_date(value) == value
+    except StoreError:
+        return False
+
+
+_CHECKS: dict[str, Callable[[Any], bool]] = {
+    "number": is_number,
+    "count": lambda v: type(v) is int and 0 <= v <= MAX_COUNT,
+    "text": _is_text,
+    "time": lambda v: _is_text(v, TIME_LIMIT),
+    "uuid": lambda v: type(v) is str and _UUID.match(v) is not None,
+    "date": _is_date,
+    "flag": lambda v: type(v) is int and v in (0, 1),
+    "names": lambda v: type(v) is list and all(_is_text(n) for n in v),
+    "numbers": lambda v: type(v) is list and len(v) <= MAX_ROWS and all(is_number(n) for n in v),
+    "object": lambda v: type(v) is dict,
+    **{kind: (lambda v, allowed=allowed: v in allowed) for kind, allowed in CHOICES.items()},
+}
+
+
+def _checker(kind: str) -> Callable[[Any], bool]:
+    check = _CHECKS[kind.rstrip("?")]
+    if kind.endswith("?"):
+        return lambda v: v is None or check(v)
+    return check
+
+
+_RECORD_CHECKS = {
+    kind: (frozenset(fields), [(name, _checker(k)) for name, k in fields.items()])
+    for kind, fields in FIELDS.items()
+}
+
+
+def value_ok(kind: str, value: Any) -> bool:
+    """Whether ``value`` is a valid value of a field of kind ``kind`` (see FIELDS)."""
+    return _checker(kind)(value)
+
+
+def _shown(value: Any) -> str:
+    if type(value) is int and abs(value) > 10**40:
+        return f"a whole number of {len(str(abs(value)))} digits"
+    return repr(str(value)[:40])
+
+
+def _check_record(kind: str, record: Any, where: str) -> None:
+    names, checks = _RECORD_CHECKS[kind]
+    if type(record) is not dict or record.keys() != names:
+        raise PackageError(f"{where} does not have the fields of a {kind} record")
+    for name, check in checks:
+        if not check(record[name]):
+            raise PackageError(f"{where} has a bad {name} value {_shown(record[name])}")
+
+
+def _check_version(row: dict, where: str) -> None:
+    if row["action"] in ("add", "correct") and (row["station"] is None or row["reading"] is None):
+        raise PackageError(f"{where} ({row['action']}) has no station or no reading")
+    if row["action"] == "undo" and row["undoes"] is None:
+        raise PackageError(f"{where} (undo) does not say which change it undoes")
+
+
+def _check_edit(row: dict, where: str) -> None:
+    for side in ("before", "after"):
+        try:
+            check_columns(row["record_table"], row[side])
+        except StoreError as exc:
+            raise PackageError(f"{where} has a bad {side} value: {exc}") from None
+    if set(row["before"]) != set(row["after"]):
+        raise PackageError(f"{where} does not name the same fields before and after")
+
+
+def check_records(records: Any, visit_uuid: str) -> None:
+    """Raise PackageError unless ``records`` is a well-formed, self-consistent visit."""
+    if not isinstance(records, dict) or set(records) != {"site", "section", "visit", *LISTS}:
+        raise PackageError("its records are not those of a visit package")
+    for kind in ("site", "section", "visit"):
+        _check_record(kind, records[kind], kind)
+    site, section, visit = records["site"], records["section"], records["visit"]
+    if section["site_uuid"] != site["uuid"] or visit["section_uuid"] != section["uuid"]:
+        raise PackageError("its site, section and visit do not belong together")
+    if visit["uuid"] != visit_uuid:
+        raise PackageError("its manifest names a different visit than its records")
+    owners = {site["uuid"]: "sites", section["uuid"]: "sections", visit["uuid"]: "visits"}
+    seen = set(owners)
+    for kind in LISTS:
+        rows = records[kind]
+        if not isinstance(rows, list) or len(rows) > MAX_ROWS:
+            raise PackageError(f"its {kind} are not a list of at most {MAX_ROWS} records")
+        for i, row in enumerate(rows):
+            where = f"{kind} record {i + 1}"
+            _check_record(kind, row, where)
+            if row["uuid"] in seen:
+                raise PackageError(f"{where} repeats an id")
+            seen.add(row["uuid"])
+            if kind == "edits":
+                if owners.get(row["record_uuid"]) != row["record_table"]:
+                    raise PackageError(f"edit {i + 1} is not about this visit's records")
+                _check_edit(row, f"edit {i + 1}")
+            elif row["visit_uuid"] != visit_uuid:
+                raise PackageError(f"{where} belongs to another visit")
+            elif kind == "station_versions":
+                _check_version(row, where)
