@@ -173,8 +173,8 @@ class Sync:
         start = str(file_sha).strip().lower()
         if not _HEX.match(start):
             raise StoreError(
-                f"{str(file_sha)[:70]!r} is not the start of a checksum (8 to 64 hex digits "
-                "0-9 a-f); copy it from the list of conflicts"
+                f"no unresolved conflicts match {str(file_sha)[:70]!r}: give the start of a "
+                "checksum (8 to 64 hex digits 0-9 a-f) from the list of conflicts"
             )
         entries = self.db.rows(
             "SELECT file_sha, content, visit_uuid FROM packages WHERE status = 'conflict'"

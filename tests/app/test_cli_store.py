@@ -18,6 +18,16 @@ from stakeline.store import Store
 ROOT = Path(__file__).resolve().parents[2]
 
 
+def _trust(office: Path, *fields: Path) -> None:
+    """The office trusts the field stores' device keys (as the office does once per device)."""
+    with Store.open(office) as trusting:
+        for field in fields:
+            with Store.open(field) as store:
+                key_file = Path(f"{field}.stakeline-device-key.json")
+                store.export_device_key(key_file)
+            trusting.trust_device(key_file, by="test office")
+
+
 def _run(capsys, *argv) -> tuple[int, str, str]:
     code = main([str(a) for a in argv])
     out, err = capsys.readouterr()
@@ -81,6 +91,7 @@ def test_pack_import_round_trip_and_exit_codes(tmp_path, capsys):
     code, out, _ = _run(capsys, "pack", "--store", field, "--outbox", outbox)
     assert code == 0 and out.count("unchanged") == 3
     files = sorted(outbox.iterdir())
+    _trust(office, field)
     code, out, _ = _run(capsys, "import", *files, "--into", office, "--json")
     results = json.loads(out)
     assert code == 0 and [r["status"] for r in results] == ["imported"] * 3
@@ -110,6 +121,7 @@ def test_conflict_exits_1(tmp_path, capsys):
             store.set_setting("x", 1)
     _run(capsys, "pack", "--store", field, "--outbox", tmp_path / "a")
     _run(capsys, "pack", "--store", tmp_path / "other.db", "--outbox", tmp_path / "b")
+    _trust(office, field, tmp_path / "other.db")
     assert _run(capsys, "import", tmp_path / "a", "--into", office)[0] == 0
     code, out, _ = _run(capsys, "import", tmp_path / "b", "--into", office, "--json")
     assert code == 1
@@ -143,6 +155,7 @@ def test_real_command_process(tmp_path):
     assert run("demo", "--store", tmp_path / "f.db").returncode == 0
     assert run("pack", "--store", tmp_path / "f.db", "--outbox", tmp_path / "o").returncode == 0
     (tmp_path / "o" / "junk.stakeline-visit.json").write_text("{}")
+    _trust(tmp_path / "office.db", tmp_path / "f.db")
     done = run("import", tmp_path / "o", "--into", tmp_path / "office.db")
     assert done.returncode == 1 and done.stderr == ""
     assert "junk.stakeline-visit.json: rejected: not a Stakeline visit package" in done.stdout
