@@ -65,20 +65,19 @@ def _connect_readonly(path: str) -> sqlite3.Connection:
     if not os.path.isfile(path):
         raise StoreError(f"no store file at {path}")
     uri = "file:" + quote(os.path.abspath(path)) + "?mode=ro"
+    failure: sqlite3.Error | None = None
     for extra in ("", "&immutable=1"):
+        conn = sqlite3.connect(uri + extra, uri=True, timeout=QUIET_WAIT, isolation_level=None)
         try:
-            conn = sqlite3.connect(uri + extra, uri=True, timeout=QUIET_WAIT, isolation_level=None)
             conn.execute("SELECT count(*) FROM sqlite_master").fetchone()
             return conn
-        except sqlite3.OperationalError as exc:
+        except sqlite3.Error as exc:
+            conn.close()
             failure = exc
             if "unable to open" not in str(exc) and "readonly" not in str(exc):
                 break
-        except sqlite3.DatabaseError as exc:
-            failure = exc
-            break
     fault = store_fault(failure, path)
-    if isinstance(failure, sqlite3.OperationalError) or fault is None:
+    if fault is None or isinstance(failure, sqlite3.OperationalError):
         raise StoreError(f"cannot read the store {path} ({failure})") from None
     raise fault from None
 

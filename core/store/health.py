@@ -111,11 +111,12 @@ def _hours_since(stamp: str) -> float:
 def _open_source(path: str) -> sqlite3.Connection:
     uri = "file:" + quote(os.path.abspath(path)) + "?mode=ro"
     for extra in ("", "&immutable=1"):
+        conn = sqlite3.connect(uri + extra, uri=True, isolation_level=None)
         try:
-            conn = sqlite3.connect(uri + extra, uri=True, isolation_level=None)
             conn.execute("PRAGMA schema_version").fetchone()
             return conn
         except sqlite3.DatabaseError as exc:
+            conn.close()
             failure = exc
     raise StoreError(f"nothing can be read from {path} ({failure}); it is not a store any more")
 
