@@ -76,7 +76,9 @@ def remove_stale_partials(folder: str | os.PathLike) -> list[str]:
             continue
         path = os.path.join(folder, name)
         parts = name[: -len(PARTIAL)].split(".")
-        pid = int(parts[-2]) if len(parts) >= 3 and parts[-2].isdigit() else None
+        # .NAME.PID.RANDOM.partial (this module) or .NAME.PID.partial (earlier Stakeline)
+        digits = [p for p in parts[-2:] if p.isdigit()] if len(parts) >= 3 else []
+        pid = int(digits[-1]) if digits else None
         try:
             info = os.lstat(path)
         except OSError:

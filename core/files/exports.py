@@ -17,6 +17,7 @@ from pathlib import Path
 
 import numpy as np
 from stakeline.errors import SurveyError
+from stakeline.files.durable import write_atomic
 from stakeline.survey.rating import RATING_COLUMNS, column_heading
 from stakeline.survey.reduction import check_unit
 from stakeline.survey.units import unit_of
@@ -207,12 +208,12 @@ def section_geojson(section: dict, visit: dict, stations: Sequence[dict], unit: 
 
 
 def write_text(path: str | Path, text: str) -> Path:
-    """Write ``text`` to ``path`` (UTF-8) through a temporary file and a rename; returns the path."""
+    """Write ``text`` to ``path`` (UTF-8, mode 0644) whole or not at all: an exclusive
+    temporary file in the same folder, fsynced and renamed (:mod:`stakeline.files.durable`);
+    returns the path."""
     path = Path(path)
-    tmp = path.with_name(path.name + ".part")
     try:
-        tmp.write_text(text, encoding="utf-8", newline="")
-        tmp.replace(path)
+        write_atomic(path, text.encode("utf-8"))
     except OSError as exc:
         raise SurveyError(f"{path}: cannot be written ({exc.strerror or exc})") from None
     return path

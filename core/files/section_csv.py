@@ -41,6 +41,12 @@ def _number(text: str, column: str, row: int, path: Path) -> float:
     return value
 
 
+def _shown(header: list[str]) -> str:
+    """The header cells for a one-line message (a quoted cell may hold a line break)."""
+    text = ",".join(header)
+    return "".join(c if c.isprintable() else repr(c)[1:-1] for c in text)
+
+
 def read_section_csv(path: str | Path, *, keep_order: bool = False) -> SectionRows:
     """Read stations and elevations (survey unit) from a CSV file with a header row.
 
@@ -77,7 +83,7 @@ def read_section_csv(path: str | Path, *, keep_order: bool = False) -> SectionRo
     for name in REQUIRED:
         if name not in header:
             raise SectionFileError(
-                f"{path}: row 1: no {name!r} column in the header ({','.join(header) or 'empty'})",
+                f"{path}: row 1: no {name!r} column in the header ({_shown(header) or 'empty'})",
                 row=1,
             )
     where = {name: header.index(name) for name in header}

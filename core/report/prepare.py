@@ -15,6 +15,7 @@ from pathlib import Path
 from stakeline.analysis import AnalysisOptions, analyse_visit, nice_step  # noqa: F401
 from stakeline.checks.review import flagged_stations
 from stakeline.errors import SurveyError
+from stakeline.files.durable import atomic_path
 from stakeline.survey.roughness import RoughnessRow
 from stakeline.survey.uncertainty import Precision
 
@@ -174,10 +175,9 @@ def write_report(data: ReportData, path: str | Path) -> Path:
     if not path.parent.exists():
         raise SurveyError(f"{path.parent}: no such folder")
     figures = report_pages.draw_pages(data)
-    tmp = path.with_name(path.name + ".part")
     try:
-        report_pages.save(figures, tmp, suffix[1:])
-        tmp.replace(path)
+        with atomic_path(path) as tmp:  # exclusive temporary file, fsynced, renamed (0644)
+            report_pages.save(figures, tmp, suffix[1:])
     except OSError as exc:
         raise SurveyError(f"{path}: cannot be written ({exc.strerror or exc})") from None
     return path

@@ -219,3 +219,24 @@ def test_station_without_reading_is_rejected_and_readers_cope(field, office, tmp
 
     data = prepare_report(field.visit(visit), stations, ReportOptions())
     assert data is not None  # the report is prepared without that version
+
+
+def test_pack_removes_what_a_killed_pack_left(field, tmp_path):
+    outbox = tmp_path / "outbox"
+    pack_visits(field, outbox)
+    dead = os.getpid() + 1
+    while True:  # a process id nobody uses now, as after a killed pack
+        try:
+            os.kill(dead, 0)
+            dead += 1
+        except ProcessLookupError:
+            break
+        except PermissionError:
+            dead += 1
+    names = [f".2026-04-14_xs1_00000000.stakeline-visit.json.{dead}.k2j4h1.partial",
+             f".2026-04-14_xs1_00000000.stakeline-visit.json.{dead}.partial"]  # fmt: skip
+    for name in names:
+        (outbox / name).write_bytes(b'{"manifest":')
+    assert {r["status"] for r in pack_visits(field, outbox)} == {"unchanged"}
+    assert not any(p.name.startswith(".") for p in outbox.iterdir())
+    assert all(os.stat(p).st_mode & 0o777 == 0o644 for p in outbox.iterdir())
