@@ -26,9 +26,7 @@ from stakeline.store.values import (
 )
 from stakeline.survey import reduction
 
-IDENTITY_COLUMNS = frozenset(
-    {"uuid", "site_uuid", "section_uuid", "created", "modified", "device"}
-)
+IDENTITY_COLUMNS = frozenset({"uuid", "site_uuid", "section_uuid", "created", "modified", "device"})
 """Columns an edit may never change: they tie records together and say who wrote them."""
 
 TIME_LIMIT = 40

@@ -32,7 +32,7 @@ from stakeline.store.values import StoreError, canonical_json, new_uuid, now, te
 QUIET_WAIT = 2.0
 """Seconds a writer waits for a lock before saying that it waits (seconds)."""
 
-LOCK_WAIT = 600.0
+LOCK_WAIT = 120.0
 """Default longest wait for another program's write lock before giving up (seconds)."""
 
 
@@ -54,7 +54,9 @@ def _connect_writable(path: str) -> sqlite3.Connection:
     except OSError as exc:
         raise StoreError(f"cannot open the store {path} ({exc.strerror or exc})") from None
     except sqlite3.Error as exc:
-        raise store_fault(exc, path) or StoreError(f"cannot open the store {path} ({exc})") from None
+        raise store_fault(exc, path) or StoreError(
+            f"cannot open the store {path} ({exc})"
+        ) from None
 
 
 def _connect_readonly(path: str) -> sqlite3.Connection:
@@ -249,8 +251,7 @@ class StoreConnection:
             yield self
             if not conn.in_transaction:
                 raise StoreFaultError(
-                    f"the store {self.path} ended the change after an error; nothing of it "
-                    "was kept"
+                    f"the store {self.path} ended the change after an error; nothing of it was kept"
                 )
             conn.execute("COMMIT")
         except BaseException as exc:

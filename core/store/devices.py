@@ -151,8 +151,7 @@ class Devices:
         who = text(by, "name of who retires the key").strip() or office_user()
         with self.db.transaction():
             self.db.conn.execute(
-                "UPDATE devices SET retired_at = ?, retired_by = ?, lost = ? "
-                "WHERE public_key = ?",
+                "UPDATE devices SET retired_at = ?, retired_by = ?, lost = ? WHERE public_key = ?",
                 [when, who, int(bool(lost)), row["public_key"]],
             )
         if row["own"] and self._key is not None:
@@ -216,5 +215,7 @@ class Devices:
                 return f"signed by {label}, whose key was reported lost on {retired}"
             claimed, since = _time(signed_at), _time(known["retired_at"])
             if claimed is None or since is None or claimed >= since:
-                return f"signed by {label} at {signed_at[:19]}, after its key was retired on {retired}"
+                return (
+                    f"signed by {label} at {signed_at[:19]}, after its key was retired on {retired}"
+                )
         return None

@@ -233,4 +233,3 @@ def _orphans(conn: sqlite3.Connection) -> dict:
         "(SELECT uuid FROM visits)",
     }
     return {table: conn.execute(sql).fetchone()[0] for table, sql in checks.items()}
-

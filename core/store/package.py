@@ -104,9 +104,7 @@ def _splice(data: bytes, key: bytes, value: str) -> bytes:
     return data[:start] + value.encode("ascii") + data[start + len(value) :]
 
 
-def build_package(
-    records: dict, device: str, created: str, key: SigningKey | None = None
-) -> bytes:
+def build_package(records: dict, device: str, created: str, key: SigningKey | None = None) -> bytes:
     """The bytes of a package holding ``records`` (as ``Store.visit_records``), signed by
     ``key``; without a key, an unsigned package of the older format (held on import)."""
     manifest = {"format": LEGACY_FORMAT if key is None else FORMAT,
@@ -303,9 +301,12 @@ def _prepare(store, path: str) -> dict:
         if seen is not None and seen["status"] != "held":
             unresolved = seen["status"] == "conflict" and seen["resolved"] is None
             note = "unresolved conflict" if unresolved else "nothing changed"
-            item["result"] = {"file": path, "visit": seen["visit_uuid"],
-                              "status": "conflict" if unresolved else "present",
-                              "message": f"already imported on {seen['imported'][:10]}; {note}"}
+            item["result"] = {
+                "file": path,
+                "visit": seen["visit_uuid"],
+                "status": "conflict" if unresolved else "present",
+                "message": f"already imported on {seen['imported'][:10]}; {note}",
+            }
             return item  # fmt: skip
         item["manifest"], item["records"] = parse_package(data)
         item["signed"] = signature_valid(data, item["manifest"])
@@ -411,8 +412,13 @@ def retry_held(store) -> list[dict]:
     results = []
     for entry in store.held_packages():
         data = store.held_content(entry["file_sha"]).encode("ascii")
-        item: dict[str, Any] = {"file": f"held:{entry['file_sha']}", "size": len(data),
-                                "result": None, "data": data, "file_sha": entry["file_sha"]}
+        item: dict[str, Any] = {
+            "file": f"held:{entry['file_sha']}",
+            "size": len(data),
+            "result": None,
+            "data": data,
+            "file_sha": entry["file_sha"],
+        }
         try:  # fmt: skip
             item["manifest"], item["records"] = parse_package(data)
             item["signed"] = signature_valid(data, item["manifest"])
@@ -422,4 +428,3 @@ def retry_held(store) -> list[dict]:
         with store.transaction():
             results.append(_merge(store, item))
     return results
-

@@ -75,8 +75,8 @@ def public_hex(key: SigningKey) -> str:
 def fingerprint(public_key: str) -> str:
     """A short form of a public key for people to compare aloud (16 hex digits in 4 groups).
 
-    >>> fingerprint("00" * 32)
-    '66687aad-f862bd77-6c8fc18b-8e9f8e20'[:19]
+    >>> fingerprint("00" * 32)  # the first 16 hex digits of SHA-256 of the 32 key bytes
+    '6668-7aad-f862-bd77'
     """
     digest = hashlib.sha256(bytes.fromhex(public_key)).hexdigest()[:16]
     return "-".join(digest[i : i + 4] for i in range(0, 16, 4))
@@ -165,7 +165,9 @@ def read_device_key(path: str | os.PathLike) -> dict:
     if not isinstance(found, dict) or set(found) != fields:
         raise KeyFileError(f"{path} is not a Stakeline device key file")
     if found["format"] != DEVICE_KEY_FORMAT:
-        raise KeyFileError(f"{path}: format {str(found['format'])[:40]!r} is not {DEVICE_KEY_FORMAT}")
+        raise KeyFileError(
+            f"{path}: format {str(found['format'])[:40]!r} is not {DEVICE_KEY_FORMAT}"
+        )
     device, key, created = found["device"], found["public_key"], found["created"]
     if not isinstance(device, str) or not device.strip() or len(device) > 200:
         raise KeyFileError(f"{path} names no device")

@@ -98,8 +98,7 @@ class Sync:
         (unsigned, signature fails, untrusted or retired key), oldest first: the keys of
         :meth:`package_seen` plus ``signer_key`` (None when unsigned) and ``fingerprint``."""
         rows = self.db.rows(
-            f"SELECT {_LOG_KEYS}, signer_key FROM packages WHERE status = 'held' "
-            "ORDER BY imported"
+            f"SELECT {_LOG_KEYS}, signer_key FROM packages WHERE status = 'held' ORDER BY imported"
         )
         for row in rows:
             key = row["signer_key"]

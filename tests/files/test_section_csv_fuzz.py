@@ -14,8 +14,23 @@ from stakeline.files.section_csv import read_section_csv
 cells = st.one_of(
     st.floats(allow_nan=True, allow_infinity=True).map(repr),
     st.integers(-(10**30), 10**30).map(str),
-    st.sampled_from(["", " ", "nan", "inf", "-inf", "1e400", "1,5", "0x10", "\x00", '"', "1" * 5000,
-                     '"a\nb"', '"station\r"']),
+    st.sampled_from(
+        [
+            "",
+            " ",
+            "nan",
+            "inf",
+            "-inf",
+            "1e400",
+            "1,5",
+            "0x10",
+            "\x00",
+            '"',
+            "1" * 5000,
+            '"a\nb"',
+            '"station\r"',
+        ]
+    ),
     st.text(max_size=12),
 )
 rows = st.lists(st.lists(cells, min_size=0, max_size=4), max_size=12)
@@ -31,7 +46,9 @@ def _outcome(path) -> None:
     assert all(math.isfinite(v) for v in section.stations + section.elevations)
 
 
-@settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(
+    max_examples=200, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 @given(header=st.sampled_from(["station,elevation", "Station,Elevation,code", "elevation,station",
                                "station", "", "station,elevation,station",
                                '"sta\ntion",elevation']),
@@ -43,7 +60,9 @@ def test_mutated_csv_rows(tmp_path, header, body, newline):
     _outcome(path)
 
 
-@settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(
+    max_examples=200, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 @given(data=st.binary(max_size=400), prefix=st.sampled_from([b"", b"station,elevation\n",
                                                              b"\xef\xbb\xbfstation,elevation\n"]))  # fmt: skip
 def test_random_bytes(tmp_path, data, prefix):

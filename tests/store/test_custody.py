@@ -73,9 +73,7 @@ def test_package_is_signed_over_its_canonical_bytes(field, tmp_path):
     document["manifest"]["sha256"] = "0" * 64
     document["manifest"]["signature"] = "0" * 128
     blank = (json.dumps(document, sort_keys=True, separators=(",", ":")) + "\n").encode()
-    VerifyKey(bytes.fromhex(manifest["key"])).verify(
-        blank, bytes.fromhex(manifest["signature"])
-    )
+    VerifyKey(bytes.fromhex(manifest["key"])).verify(blank, bytes.fromhex(manifest["signature"]))
 
 
 def test_untrusted_device_is_held_not_merged_then_merges_once_trusted(field, office, tmp_path):
@@ -132,9 +130,7 @@ def test_package_signed_by_another_key_is_held(field, office, tmp_path):
     path = pack_visits(field, tmp_path / "out")[0]["path"]
     document = json.loads(open(path, "rb").read())
     thief = SigningKey.generate()  # re-signed with a key the office never trusted
-    forged = build_package(
-        document["records"], "tablet-A", document["manifest"]["created"], thief
-    )
+    forged = build_package(document["records"], "tablet-A", document["manifest"]["created"], thief)
     target = tmp_path / "resigned.stakeline-visit.json"
     target.write_bytes(forged)
     (result,) = import_files(office, [target])

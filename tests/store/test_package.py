@@ -10,9 +10,9 @@ import shutil
 from pathlib import Path
 
 import pytest
+from custody_helpers import trust
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
-from custody_helpers import trust
 from stakeline.store import Store, StoreError, package
 from stakeline.store.package import (
     MAX_BYTES,

@@ -89,8 +89,11 @@ json_values = st.recursive(
 kinds = st.sampled_from(sorted(FIELDS))
 
 
-@settings(max_examples=150, deadline=None,
-          suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
+@settings(
+    max_examples=150,
+    deadline=None,
+    suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow],
+)
 @given(kind=kinds, data=st.data(), value=json_values, drop=st.booleans())
 def test_field_by_field_mutations_signed_again(world, kind, data, value, drop):
     records = json.loads(json.dumps(world["records"]))
@@ -127,8 +130,11 @@ def test_field_by_field_mutations_signed_again(world, kind, data, value, drop):
             office.close()
 
 
-@settings(max_examples=200, deadline=None,
-          suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
+@settings(
+    max_examples=200,
+    deadline=None,
+    suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow],
+)
 @given(
     edits=st.lists(
         st.tuples(st.integers(0, 10**7), st.integers(0, 255), st.sampled_from("fid")),

@@ -218,8 +218,12 @@ def test_four_processes_create_one_store_at_once(tmp_path):
     trials = 30
     env = {**os.environ, "PYTHONPATH": str(ROOT)}
     procs = [
-        subprocess.Popen([sys.executable, str(OPENER), str(tmp_path), str(trials)],
-                         stdout=subprocess.PIPE, text=True, env=env)  # fmt: skip
+        subprocess.Popen(
+            [sys.executable, str(OPENER), str(tmp_path), str(trials)],
+            stdout=subprocess.PIPE,
+            text=True,
+            env=env,
+        )  # fmt: skip
         for _ in range(4)
     ]
     failures = []

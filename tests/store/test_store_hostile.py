@@ -11,7 +11,7 @@ import threading
 import pytest
 from custody_helpers import trust
 from stakeline.store import Store, StoreError
-from stakeline.store.package import build_package, import_file, import_files, pack_visits
+from stakeline.store.package import build_package, import_files, pack_visits
 
 
 @pytest.fixture
@@ -152,7 +152,9 @@ def _logged_conflict(office: Store, content: dict, file_sha: str = "ab" * 32) ->
         ({"settings": [1, 2]}, "JSON object"),
     ],
 )
-def test_resolve_merge_refuses_bad_edits_and_changes_nothing(field, office, tmp_path, after, reason):
+def test_resolve_merge_refuses_bad_edits_and_changes_nothing(
+    field, office, tmp_path, after, reason
+):
     pack_visits(field, tmp_path / "out")
     import_files(office, [tmp_path / "out"])
     visit = field.visits()[0]["uuid"]
@@ -181,7 +183,9 @@ def test_resolve_matches_hex_prefixes_only(field, office, tmp_path):
     assert office.resolve_conflict("ABABABAB")["resolved"]  # hex, either case
 
 
-@pytest.mark.parametrize("date", ["2026-99-99", "2026-04-14\n", "2026-02-30", "20260414", " 2026-04-14"])
+@pytest.mark.parametrize(
+    "date", ["2026-99-99", "2026-04-14\n", "2026-02-30", "20260414", " 2026-04-14"]
+)
 def test_dates_are_strict_in_the_store_and_in_packages(field, office, tmp_path, date):
     section = field.sections()[0]["uuid"]
     with pytest.raises(StoreError, match="calendar date"):
