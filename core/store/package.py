@@ -34,14 +34,8 @@ from pathlib import Path
 from typing import Any
 
 from nacl.signing import SigningKey
-from stakeline.files.durable import (
-    NotRegularFileError,
-    read_regular,
-    remove_stale_partials,
-)
-from stakeline.files.durable import (
-    write_atomic as _write_durable,
-)
+from stakeline.files import durable
+from stakeline.files.durable import NotRegularFileError, read_regular, remove_stale_partials
 from stakeline.store import signing
 from stakeline.store.faults import StoreFaultError
 from stakeline.store.records import MAX_ROWS, PackageError, check_records, value_ok
@@ -231,7 +225,7 @@ def package_name(records: dict) -> str:
 
 def write_atomic(path: Path, data: bytes) -> None:
     """Write ``data`` to ``path`` whole or not at all (see :mod:`stakeline.files.durable`)."""
-    _write_durable(path, data, mode=0o644)
+    durable.write_atomic(path, data, mode=0o644)
 
 
 def _is_current(path: Path, records: dict, public_key: str) -> bool:
