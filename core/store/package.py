@@ -29,7 +29,7 @@ import json
 import os
 import re
 import time
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable
 from pathlib import Path
 from typing import Any
 
@@ -242,12 +242,15 @@ def _is_current(path: Path, records: dict, public_key: str) -> bool:
     )
 
 
-def pack_visits(store, outbox: str | os.PathLike) -> list[dict]:
+def pack_visits(
+    store, outbox: str | os.PathLike, progress: Callable[[int, int], None] | None = None
+) -> list[dict]:
     """Write a signed package for every finished visit of ``store`` into the folder ``outbox``.
 
     Returns one dict per visit: {visit, path, status} with status ``written`` or ``unchanged``
     (the outbox already holds a package with the same records, signed by this store's key).
-    Temporary files left by a killed earlier run are removed first.
+    Temporary files left by a killed earlier run are removed first.  ``progress(done, total)``
+    is called after each package.
     """
     folder = Path(outbox)
     if folder.exists() and not folder.is_dir():
@@ -257,9 +260,8 @@ def pack_visits(store, outbox: str | os.PathLike) -> list[dict]:
     key = store.signing_key()
     public_key = signing.public_hex(key)
     results = []
-    for visit in store.visits():
-        if not visit["finished"]:
-            continue
+    finished = [visit for visit in store.visits() if visit["finished"]]
+    for visit in finished:
         records = store.visit_records(visit["uuid"])
         path = folder / package_name(records)
         status = "unchanged"
@@ -267,6 +269,8 @@ def pack_visits(store, outbox: str | os.PathLike) -> list[dict]:
             write_atomic(path, build_package(records, store.device_id, now(), key))
             status = "written"
         results.append({"visit": visit["uuid"], "path": str(path), "status": status})
+        if progress is not None:
+            progress(len(results), len(finished))
     return results
 
 
@@ -369,6 +373,7 @@ def import_files(
     batch: int = 200,
     batch_bytes: int = BATCH_BYTES,
     check: bool = True,
+    progress: Callable[[int, int], None] | None = None,
 ) -> list[dict]:
     """Import package files (folders expand to their packages); one :func:`import_file` dict
     per file, in order.
@@ -379,6 +384,7 @@ def import_files(
     and ``batch_bytes`` bytes sharing one durable commit, and no commit holding the lock for
     much more than :data:`LOCK_BUDGET` seconds.  A fault of the store itself (full disk,
     damage) stops the import with a StoreFaultError; files committed before stay imported.
+    ``progress(done, total)`` is called after each file.
     """
     files = expand_paths(paths)
     if check and files:
@@ -396,6 +402,8 @@ def import_files(
                 started = time.monotonic()
                 while prepared and (time.monotonic() - started < LOCK_BUDGET):
                     results.append(_merge(store, prepared.pop(0)))
+                    if progress is not None:
+                        progress(len(results), len(files))
     return results
 
 
