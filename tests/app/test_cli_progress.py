@@ -40,6 +40,13 @@ def field(tmp_path_factory):
     folder = tmp_path_factory.mktemp("progress")
     code, _, err = stakeline(["demo", "--store", "field.db"], folder, terminal=False)
     assert code == 0, err
+    from stakeline.store import Store
+
+    with Store.open(folder / "field.db") as store:  # the offices trust the field device
+        store.export_device_key(folder / "field.stakeline-device-key.json")
+    for tag in ("tty", "pipe"):
+        with Store.open(folder / f"office-{tag}.db") as office:
+            office.trust_device(folder / "field.stakeline-device-key.json", by="test office")
     return folder
 
 
