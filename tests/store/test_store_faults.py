@@ -281,7 +281,7 @@ def test_a_writer_gives_up_with_a_clear_message(synced):
     office, _ = synced
     heard = []
     with Store.open(office, on_wait=heard.append, lock_wait=0.5) as store:
-        holder = _hold_lock(office, 6)
+        holder = _hold_lock(office, 3.5)
         try:
             with pytest.raises(StoreLockedError, match="stayed locked") as info:
                 store.set_setting("unit", "m")
