@@ -224,18 +224,25 @@ class StoreConnection:
         if self.on_wait is not None:
             self.on_wait(self.path)
         deadline = time.monotonic() + self.lock_wait
-        while True:
-            try:
-                self.conn.execute("BEGIN IMMEDIATE")
-                return
-            except sqlite3.OperationalError as exc:
-                if not is_locked(exc):
-                    raise self.fault(exc) from None
-                if time.monotonic() > deadline:
+        try:
+            while True:
+                remaining = deadline - time.monotonic()
+                if remaining <= 0:
                     raise StoreLockedError(
                         f"the store {self.path} stayed locked by another program for "
-                        f"{self.lock_wait:.0f} s; try again when that program has finished"
-                    ) from None
+                        f"{QUIET_WAIT + self.lock_wait:.0f} s; try again when that program has "
+                        "finished"
+                    )
+                wait = int(min(remaining, QUIET_WAIT) * 1000) + 1
+                self.conn.execute(f"PRAGMA busy_timeout = {wait}")
+                try:
+                    self.conn.execute("BEGIN IMMEDIATE")
+                    return
+                except sqlite3.OperationalError as exc:
+                    if not is_locked(exc):
+                        raise self.fault(exc) from None
+        finally:
+            self.conn.execute(f"PRAGMA busy_timeout = {int(QUIET_WAIT * 1000)}")
 
     @contextmanager
     def transaction(self) -> Iterator[StoreConnection]:

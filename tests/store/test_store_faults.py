@@ -281,11 +281,12 @@ def test_a_writer_gives_up_with_a_clear_message(synced):
     office, _ = synced
     heard = []
     with Store.open(office, on_wait=heard.append, lock_wait=0.5) as store:
-        holder = _hold_lock(office, 3.5)
+        holder = _hold_lock(office, 60)
         try:
             with pytest.raises(StoreLockedError, match="stayed locked") as info:
                 store.set_setting("unit", "m")
         finally:
+            holder.kill()  # the other program, ended once we have given up
             holder.wait(30)
     assert heard == [str(office)] and "\n" not in str(info.value)
 
