@@ -328,6 +328,7 @@ def analyse_visit(
         else bank_top_splits(section.stations, section.elevations, result.codes)
     )
     n, result.row = _choose_n(options)
+    result.n_values = _n_values(result, n, options)
     if n is None:
         result.missing.append("Manning's n (give --n or --roughness)")
     if result.slope is None:
@@ -343,12 +344,28 @@ def analyse_visit(
 
 
 def _choose_n(options: AnalysisOptions) -> tuple[float | None, RoughnessRow | None]:
+    typed = parse_number(options.n, "Manning's n", positive=True, optional=True)
     if options.roughness:
         row = roughness(options.roughness)
-        return (row.normal if options.n is None else float(options.n)), row
-    if options.n is None:
+        return (row.normal if typed is None else typed), row
+    if typed is None:
         return None, None
-    return float(options.n), row_for_n(options.n)
+    return typed, row_for_n(typed)
+
+
+def _n_values(result: VisitAnalysis, n: float | None, options: AnalysisOptions) -> list[float]:
+    """n of each subsection (the main channel's n, the overbanks' n), or ``[n]`` unsplit;
+    known before any water level, so the rating table has them too."""
+    if n is None:
+        return []
+    if not result.splits:
+        return [n]
+    overbank = parse_number(
+        options.n_overbank, "Manning's n of the overbanks", positive=True, optional=True
+    )
+    overbank = n if overbank is None else overbank
+    names = CompoundSection(result.section, result.splits, [n] * (len(result.splits) + 1)).names()
+    return [n if name == "main channel" else overbank for name in names]
 
 
 def _hydraulics(result: VisitAnalysis, n: float | None, options: AnalysisOptions) -> None:
@@ -359,18 +376,13 @@ def _hydraulics(result: VisitAnalysis, n: float | None, options: AnalysisOptions
     result.bands = geometry_bands(section, stage, result.precision, method=result.method)
     if n is None or result.slope is None:
         return
-    overbank = float(options.n_overbank) if options.n_overbank is not None else n
     if result.splits:
-        names = CompoundSection(section, result.splits, [n] * (len(result.splits) + 1)).names()
-        result.n_values = [n if name == "main channel" else overbank for name in names]
         compound = CompoundSection(section, result.splits, result.n_values)
         parts = compound.table(stage, result.unit)["parts"]
         result.subsections = [
             {"name": name, "n": value, **{k: float(v) for k, v in part.items()}}
-            for name, value, part in zip(names, result.n_values, parts, strict=True)
+            for name, value, part in zip(compound.names(), result.n_values, parts, strict=True)
         ]
-    else:
-        result.n_values = [n]
     values = result.n_values if result.splits else n
     splits = result.splits or None
     result.flow = flow_at(section, stage, values, result.slope, result.unit, splits).as_dict()

@@ -27,6 +27,8 @@ COMMAND_MODULES = (
     "stakeline.app.cli.export",
     "stakeline.app.cli.report",
     "stakeline.app.cli.gauging",
+    "stakeline.app.cli.custody",
+    "stakeline.app.cli.figures",
 )
 """Modules that add commands to :data:`cli`, in the order ``stakeline --help`` lists them."""
 

@@ -8,9 +8,11 @@ and options of one concern (roughness, energy slope) are listed under their own 
 
 from __future__ import annotations
 
+import unicodedata
 from collections.abc import Sequence
 
 import click
+import numpy as np
 from stakeline.errors import SurveyError
 
 EXIT_BAD_INPUT = 2
@@ -23,6 +25,27 @@ class CommandError(Exception):
     """A one-line problem to report to the person at the terminal (exit code 2)."""
 
 
+_UNSAFE = {"Cc", "Cf", "Cs", "Co", "Cn", "Zl", "Zp"}
+
+
+def shown(value: object) -> str:
+    """``value`` as text that is safe to print on a terminal, on one line.
+
+    Control and format characters (escape sequences, line breaks, bidirectional overrides) are
+    shown escaped as Python writes them, so a name read from a package or a store can neither
+    drive the terminal nor pose as a line of its own.
+
+    >>> shown("XS1\\x1b[2J riffle\\nfake line")
+    'XS1\\\\x1b[2J riffle\\\\nfake line'
+    >>> shown(None), shown("Tessaly Creek")
+    ('', 'Tessaly Creek')
+    """
+    text = "" if value is None else str(value)
+    if text.isprintable():
+        return text
+    return "".join(repr(c)[1:-1] if unicodedata.category(c) in _UNSAFE else c for c in text)
+
+
 class OneLineError(click.ClickException):
     """A :class:`SurveyError` or :class:`CommandError`, shown as ``stakeline COMMAND: message``."""
 
@@ -30,7 +53,7 @@ class OneLineError(click.ClickException):
 
     def show(self, file=None) -> None:
         """Print the one line (no "Error:" prefix, no usage) to stderr."""
-        click.echo(self.message, err=True)
+        click.echo(shown(self.message), err=True)
 
 
 class GroupedOption(click.Option):
@@ -69,6 +92,28 @@ def expand_abbreviations(args: Sequence[str], names: Sequence[str]) -> list[str]
     return out
 
 
+NUMBER_TROUBLE = (
+    "the numbers given lead to a figure that is undefined or too large to hold ({}); check "
+    "the values typed and in the file"
+)
+
+
+def run_one_line(ctx: click.Context, invoke):
+    """``invoke(ctx)`` with the one-line error policy: a :class:`SurveyError` or
+    :class:`CommandError` becomes ``stakeline COMMAND: message`` (exit 2), and so does a
+    floating-point overflow or undefined result that the input led to (numpy is set to raise
+    rather than print a warning)."""
+    try:
+        with np.errstate(over="raise", invalid="raise", divide="raise", under="ignore"):
+            return invoke(ctx)
+    except (SurveyError, CommandError) as exc:
+        raise OneLineError(f"{ctx.command_path}: {exc}") from None
+    except (FloatingPointError, OverflowError) as exc:
+        raise OneLineError(f"{ctx.command_path}: {NUMBER_TROUBLE.format(exc)}") from None
+    except BrokenPipeError:  # the reader (head, less) went away: nothing more to say
+        return 0
+
+
 class StakelineCommand(click.Command):
     """A subcommand: one-line errors, abbreviated options, grouped option help."""
 
@@ -84,12 +129,7 @@ class StakelineCommand(click.Command):
 
     def invoke(self, ctx: click.Context):
         """Run the command; input errors become one line on stderr and exit code 2."""
-        try:
-            return super().invoke(ctx)
-        except (SurveyError, CommandError) as exc:
-            raise OneLineError(f"stakeline {ctx.info_name}: {exc}") from None
-        except BrokenPipeError:  # the reader (head, less) went away: nothing more to say
-            return 0
+        return run_one_line(ctx, super().invoke)
 
     def format_options(self, ctx: click.Context, formatter: click.HelpFormatter) -> None:
         """List the arguments, then the options, those of one group under the group's heading."""
@@ -116,6 +156,19 @@ class StakelineGroup(click.Group):
     def list_commands(self, ctx: click.Context) -> list[str]:
         """Command names in the order the modules add them (field work first, office last)."""
         return list(self.commands)
+
+
+class StakelineSubgroup(StakelineGroup):
+    """A command with subcommands (``stakeline devices trust``); its own callback and its
+    subcommands keep the one-line error policy."""
+
+    def __init__(self, *args, **kwargs):
+        kwargs.setdefault("context_settings", dict(CONTEXT))
+        super().__init__(*args, **kwargs)
+
+    def invoke(self, ctx: click.Context):
+        """Run the group's callback, then the subcommand, with one-line errors."""
+        return run_one_line(ctx, super().invoke)
 
 
 @click.group(

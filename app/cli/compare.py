@@ -6,8 +6,15 @@ import json
 import sys
 from pathlib import Path
 
-from stakeline.app.cli.base import CommandError, cli
-from stakeline.app.cli.inputs import find_visit, live, open_store, section_of, water_level
+from stakeline.analysis import AnalysisOptions, analyse_visit
+from stakeline.app.cli.base import CommandError, cli, shown
+from stakeline.app.cli.inputs import (
+    file_stations,
+    find_visit,
+    open_store,
+    section_of,
+    visit_stations,
+)
 from stakeline.app.cli.options import (
     UNIT_SYSTEMS,
     argument,
@@ -17,9 +24,8 @@ from stakeline.app.cli.options import (
     units_option,
     visit_options,
 )
-from stakeline.files.section_csv import read_section_csv
-from stakeline.survey.compare import compare_visits
-from stakeline.survey.hydraulics import figure_unit
+from stakeline.survey.figures import figure_unit
+from stakeline.survey.numbers import parse_number
 
 
 @cli.command(
@@ -43,10 +49,20 @@ def compare(
     as_json: bool,
     plot: str | None,
 ) -> int:
-    """Print the change between two visits."""
-    before, after, unit, stage, names = _inputs(files, store, visit, units, stage)
-    out = compare_visits(section_of(before), section_of(after), stage)
+    """Print the change between two visits (the one office analysis's comparison)."""
+    before, after, unit, names, visits = _inputs(files, store, visit, units)
+    typed = parse_number(stage, "--stage", optional=True)
+    if typed is not None:  # a level typed must be under both surveys' ends: said plainly
+        section_of(before).at(typed)
+        section_of(after).at(typed)
+    later = visits[1] if visits else {"unit": unit}
+    earlier = {"visit": visits[0] if visits else {}, "stations": before}
+    result = analyse_visit(later, after, AnalysisOptions(stage=typed), earlier)
+    if result.comparison is None:
+        raise CommandError(result.comparison_note)
+    out = dict(result.comparison)
     out["unit"] = unit
+    stage = out.get("stage")
     if plot:
         from stakeline.report.pages import write_overlay_plot
 
@@ -70,21 +86,14 @@ def compare(
     return 0
 
 
-def _inputs(files, store, visits, units, stage):
-    """Before and after stations, unit, water level and the two names (files or dates)."""
+def _inputs(files, store, visits, units):
+    """Before and after stations, unit, the two names (files or dates) and the two store
+    visits (None for files)."""
     if files:
         if len(files) != 2 or store or visits:
             raise CommandError("give two files BEFORE.csv AFTER.csv, or --store with two --visit")
-        lines = []
-        for name in files:
-            rows = read_section_csv(name)
-            lines.append(
-                [
-                    {"station": s, "elevation": z}
-                    for s, z in zip(rows.stations, rows.elevations, strict=True)
-                ]
-            )
-        return lines[0], lines[1], UNIT_SYSTEMS[units], stage, list(files)
+        before, after = (file_stations(name) for name in files)
+        return before, after, UNIT_SYSTEMS[units], list(files), None
     if not visits or len(visits) != 2:
         raise CommandError("give --visit twice (the two visits to compare) with --store")
     opened = open_store(store)
@@ -95,8 +104,7 @@ def _inputs(files, store, visits, units, stage):
         )
     if found[0]["unit"] != found[1]["unit"]:
         raise CommandError(
-            f"the visits use different units ({found[0]['unit']}, {found[1]['unit']})"
+            f"the visits use different units ({shown(found[0]['unit'])}, {shown(found[1]['unit'])})"
         )
-    before, after = (live(opened.stations(v["uuid"])) for v in found)
-    stage = stage if stage is not None else water_level(found[1])
-    return before, after, found[0]["unit"], stage, [v["date"] for v in found]
+    before, after = (visit_stations(opened, v) for v in found)
+    return before, after, found[0]["unit"], [shown(v["date"]) for v in found], found

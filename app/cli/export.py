@@ -6,11 +6,13 @@ import re
 import sys
 from pathlib import Path
 
+from stakeline.analysis import analyse_visit
 from stakeline.app.cli.base import CommandError, cli
-from stakeline.app.cli.inputs import source
+from stakeline.app.cli.inputs import find_visit, live, open_store, visit_stations
 from stakeline.app.cli.options import (
     Roughness,
     Slope,
+    analysis_options,
     option,
     roughness_options,
     slope_options,
@@ -21,16 +23,20 @@ from stakeline.files.exports import (
     geojson_text,
     rating_csv,
     section_geojson,
+    signed_by,
     stations_csv,
     write_text,
 )
-from stakeline.report import nice_step
-from stakeline.survey.rating import rating_stages, rating_table
+from stakeline.survey.numbers import parse_number
 
 
 def slug(text: str) -> str:
-    """``text`` as a file-name part: letters and digits joined by hyphens, lower case."""
-    return re.sub(r"[^A-Za-z0-9]+", "-", text).strip("-").lower() or "section"
+    """``text`` as a file-name part: letters and digits joined by hyphens, lower case.
+
+    >>> slug("XS1 riffle"), slug("../2026-04-14\\n")
+    ('xs1-riffle', '2026-04-14')
+    """
+    return re.sub(r"[^A-Za-z0-9]+", "-", str(text)).strip("-").lower() or "section"
 
 
 @cli.command(
@@ -53,33 +59,32 @@ def export(
     slope: Slope,
 ) -> int:
     """Write the export files of one visit."""
-    section, stations, unit, found, opened = source(None, store, visit)
+    opened = open_store(store)
+    found = find_visit(opened, visit)
+    unit = found["unit"]
+    stations = live(opened.stations(found["uuid"]))  # as read, elevations or not
+    custody = signed_by(opened.visit_signer(found["uuid"]), found)
+    options = analysis_options(
+        roughness, slope, from_codes=True,
+        rating_step=parse_number(step, "--step", positive=True, optional=True),
+    )  # fmt: skip
     folder = Path(out)
     try:
         folder.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
         raise CommandError(f"{folder}: cannot make the folder ({exc.strerror or exc})") from None
-    stem = folder / f"{slug(found['site'])}_{slug(found['section'])}_{found['date']}"
-    print(f"wrote {write_text(f'{stem}_stations.csv', stations_csv(stations, unit))}")
-    n, _ = roughness.channel()
-    energy_slope = slope.value()
-    if n is not None and energy_slope is not None:
-        splits = roughness.split_stations(section, stations, from_codes=True)
-        step = step or nice_step(section.highest_stage - section.lowest)
-        table = rating_table(
-            section,
-            rating_stages(section, step),
-            roughness.values(section, n, splits),
-            energy_slope,
-            unit,
-            splits or None,
-        )
-        print(f"wrote {write_text(f'{stem}_rating.csv', rating_csv(table, unit))}")
+    stem = folder / f"{slug(found['site'])}_{slug(found['section'])}_{slug(found['date'])}"
+    print(f"wrote {write_text(f'{stem}_stations.csv', stations_csv(stations, unit, custody))}")
+    if (options.n is not None or options.roughness) and options.slope is not None:
+        # The rating of the one office analysis (the report's); no water level is needed.
+        bare = {**found, "water_levels": []}
+        result = analyse_visit(bare, visit_stations(opened, found), options)
+        print(f"wrote {write_text(f'{stem}_rating.csv', rating_csv(result.rating, unit))}")
     else:
         print("no rating CSV: give --n or --roughness, and --slope", file=sys.stderr)
     info = opened.section(found["section_uuid"])
     if info.get("left_coordinates") and info.get("right_coordinates"):
-        doc = section_geojson(info, found, stations, unit)
+        doc = section_geojson(info, found, stations, unit, custody)
         print(f"wrote {write_text(f'{stem}.geojson', geojson_text(doc))}")
     else:
         print("no GeoJSON: the section has no stake coordinates", file=sys.stderr)

@@ -4,11 +4,13 @@ from __future__ import annotations
 
 import json
 
+from stakeline.analysis import analyse_visit
 from stakeline.app.cli.base import cli
 from stakeline.app.cli.inputs import source
 from stakeline.app.cli.options import (
     Roughness,
     Slope,
+    analysis_options,
     file_argument,
     flow_inputs,
     json_option,
@@ -17,14 +19,8 @@ from stakeline.app.cli.options import (
     stage_option,
     units_option,
 )
-from stakeline.survey.hydraulics import figure_unit, flow_at
+from stakeline.survey.figures import figure_unit
 from stakeline.survey.roughness import ROUGHNESS, SOURCE
-from stakeline.survey.uncertainty import (
-    Precision,
-    discharge_band,
-    discharge_for_roughness,
-    geometry_bands,
-)
 
 FLOW_KEYS = ("area", "wetted_perimeter", "hydraulic_radius", "discharge", "velocity", "froude",
              "shear_stress", "stream_power")  # fmt: skip
@@ -51,30 +47,23 @@ SHOWN = ("area", "wetted_perimeter", "top_width", "hydraulic_radius", "hydraulic
 def flow(
     file: str, stage: float, units: str, as_json: bool, roughness: Roughness, slope: Slope
 ) -> int:
-    """Print the uniform-flow figures at one water level."""
-    section, stations, unit, _, _ = source(file, None, None, units)
+    """Print the uniform-flow figures at one water level (the one office analysis)."""
+    _, stations, unit, _, _ = source(file, None, None, units)
     n, energy_slope, row = flow_inputs(roughness, slope)
-    splits = roughness.split_stations(section, stations, from_codes=False)
-    values = roughness.values(section, n, splits)
-    figures = flow_at(section, stage, values, energy_slope, unit, splits or None)
+    options = analysis_options(roughness, slope, from_codes=False, stage=stage)
+    result = analyse_visit({"unit": unit}, stations, options)
+    figures = result.flow
     if as_json:
-        print(json.dumps({key: getattr(figures, key) for key in FLOW_KEYS}))
+        print(json.dumps({key: figures[key] for key in FLOW_KEYS}))
         return 0
-    precision = Precision.default(unit)
-    bands = geometry_bands(section, stage, precision)
-    bands["discharge"] = discharge_band(
-        section, stage, values, energy_slope, unit, precision, splits or None
-    )
-    print(f"water level {stage:g} {unit}   n {n:g}   slope {energy_slope:g}")
+    print(f"water level {result.stage:g} {unit}   n {n:g}   slope {energy_slope:g}")
     for key in SHOWN:
-        band = bands.get(key)
+        band = result.bands.get(key)
         spread = f"  ± {band.plus_minus:.4f}" if band else ""
-        value = getattr(figures, key)
-        print(f"  {key.replace('_', ' '):<18} {value:12.4f} {figure_unit(key, unit):<12}{spread}")
+        print(f"  {key.replace('_', ' '):<18} {figures[key]:12.4f} {figure_unit(key, unit):<12}{spread}")  # fmt: skip
     print("  ± from the readings alone (reading and station precision, k = 2).")
-    if row is not None:
-        q = discharge_for_roughness(section, stage, row, energy_slope, unit, splits or None, values)
-        qu = figure_unit("discharge", unit)
+    if row is not None and result.n_range is not None:
+        q, qu = result.n_range, figure_unit("discharge", unit)
         print(f"  Manning's n dominates: Q {q['minimum']:.4f} {qu} at n {row.minimum:g}, "
               f"{q['maximum']:.4f} {qu} at n {row.maximum:g} ({row.key}).")  # fmt: skip
     print("  Estimates for checking; designs and safety decisions need licensed review.")

@@ -6,26 +6,30 @@ import csv
 import json
 import sys
 
-import numpy as np
-from stakeline.app.cli.base import CommandError, cli
+from stakeline.app.cli.base import cli
+from stakeline.app.cli.inputs import input_file
 from stakeline.app.cli.options import file_argument, json_option, option, stage_option
+from stakeline.errors import SectionError
 from stakeline.files.section_csv import read_section_csv
+from stakeline.survey.figures import FIGURE_TABLE
 from stakeline.survey.geometry import FIGURES, Section
+from stakeline.survey.numbers import parse_number
+from stakeline.survey.rating import stage_range
 
-LABELS = {
-    "area": ("wetted area", "²"),
-    "wetted_perimeter": ("wetted perimeter", ""),
-    "top_width": ("top width", ""),
-    "hydraulic_radius": ("hydraulic radius", ""),
-    "hydraulic_depth": ("hydraulic depth", ""),
-    "max_depth": ("deepest water", ""),
-}
+LABELS = {name: (FIGURE_TABLE[name].label, FIGURE_TABLE[name].power) for name in FIGURES}
+"""Label and power of the unit (``"²"`` or ``""``) of each figure, from the one table of
+figure names (:data:`stakeline.survey.figures.FIGURE_TABLE`)."""
 
 
 def load_section(path: str) -> Section:
-    """Read a section CSV (``station``, ``elevation`` columns) into a :class:`Section`."""
-    rows = read_section_csv(path)
-    return Section(rows.stations, rows.elevations)
+    """Read a section CSV (``station``, ``elevation`` columns) into a :class:`Section`; an
+    error about a point names the file too."""
+    rows = read_section_csv(input_file(path))
+    try:
+        return Section(rows.stations, rows.elevations)
+    except SectionError as exc:
+        row = "" if exc.index is None else f"row {rows.rows[exc.index]}: "
+        raise SectionError(f"{path}: {row}{exc}", exc.index, exc.station) from None
 
 
 @cli.command(
@@ -40,7 +44,7 @@ def load_section(path: str) -> Section:
 @json_option("print a JSON object")
 def section(file: str, stage: float, unit: str, as_json: bool) -> int:
     """Print the figures of one water level."""
-    water = load_section(file).at(stage)
+    water = load_section(file).at(parse_number(stage, "--stage"))
     if as_json:
         print(json.dumps(water.as_dict()))
         return 0
@@ -52,18 +56,6 @@ def section(file: str, stage: float, unit: str, as_json: bool) -> int:
     parts = ", ".join(f"{a:.3f} to {b:.3f}" for a, b in water.edges) or "none (dry)"
     print(f"  {'water edges':<18} {parts}")
     return 0
-
-
-def stage_range(start: float, stop: float, step: float) -> np.ndarray:
-    """Water levels from ``start`` to ``stop`` inclusive every ``step`` (survey unit)."""
-    if not step > 0:
-        raise CommandError(f"--step must be positive, got {step:g}")
-    if stop < start:
-        raise CommandError(f"--to ({stop:g}) is below --from ({start:g})")
-    count = int(np.floor((stop - start) / step + 1e-9)) + 1
-    if count > 100_000:
-        raise CommandError(f"{count} water levels asked for; use a larger --step (at most 100000)")
-    return start + step * np.arange(count)
 
 
 @cli.command(
@@ -79,7 +71,10 @@ def stage_range(start: float, stop: float, step: float) -> np.ndarray:
 def table(file: str, start: float, stop: float, step: float, as_csv: bool) -> int:
     """Print the figures for a range of water levels."""
     section = load_section(file)
-    stages = stage_range(start, stop, step)
+    stages = stage_range(
+        parse_number(start, "--from"), parse_number(stop, "--to"),
+        parse_number(step, "--step", positive=True),
+    )  # fmt: skip
     figures = section.table(stages)
     if as_csv:
         writer = csv.writer(sys.stdout, lineterminator="\n")

@@ -12,9 +12,10 @@ from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
 import click
+from stakeline.analysis import AnalysisOptions
 from stakeline.app.cli.base import CommandError, DescribedArgument, GroupedOption
-from stakeline.survey.geometry import Section
-from stakeline.survey.hydraulics import bank_top_splits, slope_from_water_levels
+from stakeline.survey.hydraulics import slope_from_water_levels
+from stakeline.survey.numbers import parse_number
 from stakeline.survey.roughness import RoughnessRow, roughness, row_for_n
 
 UNIT_SYSTEMS = {"si": "m", "us": "ft"}
@@ -107,31 +108,21 @@ class Roughness:
 
     def channel(self) -> tuple[float | None, RoughnessRow | None]:
         """n of the main channel and its roughness-table row; ``(None, None)`` when not given."""
+        n = parse_number(self.n, "Manning's n", positive=True, optional=True)
         if self.key:
             row = roughness(self.key)
-            return (row.normal if self.n is None else self.n), row
-        if self.n is None:
+            return (row.normal if n is None else n), row
+        if n is None:
             return None, None
-        return self.n, row_for_n(self.n)
+        return n, row_for_n(n)
 
-    def split_stations(self, section: Section, stations: list[dict], from_codes: bool) -> list:
-        """Split stations: ``--split``, else the coded bank tops (store visits, or --bank-tops)."""
+    def split_option(self, from_codes: bool) -> tuple[float, ...] | None:
+        """Split stations for :class:`~stakeline.analysis.AnalysisOptions`: ``--split``; else
+        None (the analysis splits at the coded bank tops) for store visits or ``--bank-tops``;
+        else no split."""
         if self.splits:
-            return sorted(self.splits)
-        if from_codes or self.bank_tops:
-            codes = [s.get("code", "") or "" for s in stations]
-            return bank_top_splits(section.stations, section.elevations, codes)
-        return []
-
-    def values(self, section: Section, n: float, splits: list[float]):
-        """n for each part of the section: the channel's n, ``--n-overbank`` for the overbanks."""
-        if not splits:
-            return n
-        from stakeline.survey.hydraulics import CompoundSection
-
-        names = CompoundSection(section, splits, [n] * (len(splits) + 1)).names()
-        overbank = n if self.n_overbank is None else self.n_overbank
-        return [n if name == "main channel" else overbank for name in names]
+            return tuple(sorted(parse_number(s, "--split station") for s in self.splits))
+        return None if (from_codes or self.bank_tops) else ()
 
 
 def roughness_options(command: Callable) -> Callable:
@@ -180,7 +171,7 @@ class Slope:
                     "--water-levels needs --reach (the distance between the two sections)"
                 )
             return slope_from_water_levels(self.water_levels[0], self.water_levels[1], self.reach)
-        return self.slope
+        return parse_number(self.slope, "slope", positive=True, optional=True)
 
 
 def slope_options(command: Callable) -> Callable:
@@ -214,3 +205,21 @@ def flow_inputs(roughness: Roughness, slope: Slope) -> tuple[float, float, Rough
             "the energy slope is needed: give --slope S, or --water-levels UP DOWN --reach L"
         )
     return n, value, row
+
+
+def analysis_options(
+    roughness: Roughness, slope: Slope, from_codes: bool, **more
+) -> AnalysisOptions:
+    """The :class:`~stakeline.analysis.AnalysisOptions` of what was typed: n, the overbanks'
+    n, splits (see :meth:`Roughness.split_option`), slope, and ``more`` (stage, bankfull...).
+    Each number is checked here so a message names the option."""
+    roughness.channel()  # checks --n and --roughness, naming the option at fault
+    n = parse_number(roughness.n, "Manning's n", positive=True, optional=True)
+    overbank = parse_number(
+        roughness.n_overbank, "Manning's n of the overbanks (--n-overbank)", positive=True,
+        optional=True,
+    )  # fmt: skip
+    return AnalysisOptions(
+        n=n, roughness=roughness.key, n_overbank=overbank, slope=slope.value(),
+        splits=roughness.split_option(from_codes), **more,
+    )  # fmt: skip

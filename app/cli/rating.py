@@ -5,11 +5,13 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
+from stakeline.analysis import analyse_visit, nice_step
 from stakeline.app.cli.base import cli
 from stakeline.app.cli.inputs import source
 from stakeline.app.cli.options import (
     Roughness,
     Slope,
+    analysis_options,
     file_argument,
     flow_inputs,
     option,
@@ -20,8 +22,8 @@ from stakeline.app.cli.options import (
     visit_options,
 )
 from stakeline.files.exports import rating_csv, write_text
-from stakeline.report import nice_step
-from stakeline.survey.hydraulics import figure_unit
+from stakeline.survey.figures import figure_unit
+from stakeline.survey.numbers import parse_number
 from stakeline.survey.rating import rating_stages, rating_table, stage_for, stage_from_table
 
 
@@ -58,14 +60,18 @@ def rating(
     roughness: Roughness,
     slope: Slope,
 ) -> int:
-    """Print or write a rating table."""
-    section, stations, unit, found, _ = source(file, store, visit, units)
-    n, energy_slope, _ = flow_inputs(roughness, slope)
-    splits = roughness.split_stations(section, stations, from_codes=found is not None)
-    values = roughness.values(section, n, splits)
-    step = step or nice_step(section.highest_stage - section.lowest)
-    stages = rating_stages(section, step, start, stop)
-    table = rating_table(section, stages, values, energy_slope, unit, splits or None)
+    """Print or write a rating table (the one office analysis's, or over --from/--to)."""
+    _, stations, unit, found, _ = source(file, store, visit, units)
+    flow_inputs(roughness, slope)
+    options = analysis_options(roughness, slope, from_codes=found is not None, rating_step=step)
+    # The water level read on the visit plays no part in a rating table.
+    result = analyse_visit({"unit": unit, **(found or {}), "water_levels": []}, stations, options)
+    table, values, splits = result.rating, result.n_values, result.splits or None
+    if start is not None or stop is not None:
+        section = result.section
+        chosen = step or nice_step(section.highest_stage - section.lowest)
+        stages = rating_stages(section, chosen, start, stop)
+        table = rating_table(section, stages, values, result.slope, unit, splits)
     if out:
         print(f"wrote {write_text(out, rating_csv(table, unit))}")
     if plot:
@@ -76,9 +82,10 @@ def rating(
         )
         print(f"wrote {write_rating_plot(table, unit, title, plot)}")
     if discharge is not None:
-        exact = stage_for(section, discharge, values, energy_slope, unit, splits or None)
-        print(f"discharge {discharge:g} {figure_unit('discharge', unit)}: water level {exact:.4f} {unit} "
-              f"(table reading {stage_from_table(table, discharge):.4f} {unit})")  # fmt: skip
+        wanted = parse_number(discharge, "--discharge")
+        exact = stage_for(result.section, wanted, values, result.slope, unit, splits)
+        print(f"discharge {wanted:g} {figure_unit('discharge', unit)}: water level {exact:.4f} {unit} "
+              f"(table reading {stage_from_table(table, wanted):.4f} {unit})")  # fmt: skip
         return 0
     if as_csv:
         sys.stdout.write(rating_csv(table, unit))

@@ -4,11 +4,13 @@ from __future__ import annotations
 
 import sys
 
+from stakeline.analysis import earlier_visit, visit_water_level
 from stakeline.app.cli.base import CommandError, cli
-from stakeline.app.cli.inputs import find_visit, live, source, water_level
+from stakeline.app.cli.inputs import find_visit, source, visit_stations
 from stakeline.app.cli.options import (
     Roughness,
     Slope,
+    analysis_options,
     option,
     roughness_options,
     slope_options,
@@ -17,7 +19,8 @@ from stakeline.app.cli.options import (
     visit_options,
 )
 from stakeline.app.cli.progress import Progress
-from stakeline.report import ReportOptions, field_findings, prepare_report, write_report
+from stakeline.report import field_findings, prepare_report, write_report
+from stakeline.survey.numbers import parse_number
 from stakeline.survey.uncertainty import Precision
 
 
@@ -57,19 +60,23 @@ def report(
     _, stations, unit, found, opened = source(None, store, visit)
     default = Precision.default(unit)
     precision = Precision(
-        default.reading if reading_precision is None else reading_precision,
-        default.station if station_precision is None else station_precision,
-    )
-    options = ReportOptions(
-        stage=stage, n=roughness.n, roughness=roughness.key, n_overbank=roughness.n_overbank,
-        slope=slope.value(), splits=roughness.splits or None, bankfull=bankfull,
-        precision=precision, rating_step=step,
+        default.reading if reading_precision is None else
+        parse_number(reading_precision, "--reading-precision", positive=True),
+        default.station if station_precision is None else
+        parse_number(station_precision, "--station-precision", positive=True),
     )  # fmt: skip
+    options = analysis_options(
+        roughness, slope, from_codes=True, stage=parse_number(stage, "--stage", optional=True),
+        bankfull=parse_number(bankfull, "--bankfull", optional=True), precision=precision,
+        rating_step=parse_number(step, "--step", positive=True, optional=True),
+    )  # fmt: skip
+    # The report names who vouches for the visit's records (chain of custody).
+    found = {**found, "signer": opened.visit_signer(found["uuid"])}
     with Progress("report") as progress:
         progress(0, 3, "field checks")
-        water = options.stage if options.stage is not None else water_level(found)
+        water = visit_water_level(found["water_levels"], options.stage)
         findings = field_findings(found, stations, water)
-        previous = None if no_compare else _previous(opened, found, compare_with)
+        previous = None if no_compare else earlier_for(opened, found, compare_with)
         progress(1, 3, "analysis")
         data = prepare_report(
             found, stations, options, findings, opened.overrides(found["uuid"]), previous
@@ -83,19 +90,12 @@ def report(
     return 0
 
 
-def _previous(store, visit: dict, compare_with: str | None) -> dict | None:
-    """The earlier visit to compare with, as {visit, stations}; None when there is none."""
-    if compare_with:
-        other = find_visit(store, compare_with)
-        if other["section_uuid"] != visit["section_uuid"]:
-            raise CommandError("--compare-with names a visit of another section")
-    else:
-        earlier = [
-            v
-            for v in store.visits(visit["section_uuid"])
-            if v["date"] < visit["date"] and v["unit"] == visit["unit"]
-        ]
-        if not earlier:
-            return None
-        other = earlier[-1]
-    return {"visit": other, "stations": live(store.stations(other["uuid"]))}
+def earlier_for(store, visit: dict, compare_with: str | None) -> dict | None:
+    """The earlier visit to compare with, as {visit, stations}: the one named by
+    --compare-with, else the one the policy picks (:func:`stakeline.analysis.earlier_visit`)."""
+    if not compare_with:
+        return earlier_visit(visit, store.visits(visit["section_uuid"]), store.stations)
+    other = find_visit(store, compare_with)
+    if other["section_uuid"] != visit["section_uuid"]:
+        raise CommandError("--compare-with names a visit of another section")
+    return {"visit": other, "stations": visit_stations(store, other)}

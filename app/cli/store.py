@@ -4,23 +4,46 @@ from __future__ import annotations
 
 import json
 import os
-import sqlite3
 
 import click
-from stakeline.app.cli.base import CommandError, cli
+from stakeline.app.cli.base import CommandError, cli, shown
+from stakeline.app.cli.inputs import not_regular, store_file
 from stakeline.app.cli.options import argument, json_option, option, store_option
 from stakeline.app.cli.progress import Progress
 from stakeline.store import Store
 from stakeline.store.package import SUFFIX, import_files, pack_visits
 
 EXIT_REJECTED = 1
-"""Exit code of ``import`` when any file was rejected or conflicts with the office copy."""
+"""Exit code of ``import`` (and ``devices trust``) when any file was rejected, held or
+conflicts with the office copy: a person has something to look at."""
+
+NEEDS_A_PERSON = ("rejected", "conflict", "held")
+"""Import statuses that make the exit code :data:`EXIT_REJECTED`."""
 
 
-def _existing_store(path: str) -> Store:
-    if not os.path.isfile(path):
-        raise CommandError(f"no store file at {path}; create one with 'stakeline demo' or the app")
+def existing_store(path: str, readonly: bool = False) -> Store:
+    """The existing store file at ``path`` (read-only for commands that only read, so they
+    work on a read-only file system too)."""
+    store_file(path, f"no store file at {path}; create one with 'stakeline demo' or the app")
+    return Store.open(path, readonly=readonly)
+
+
+def writable_store(path: str) -> Store:
+    """The store file at ``path`` for writing, created when absent (the office store)."""
+    kind = "a folder" if os.path.isdir(path) else not_regular(path)
+    if kind is not None:
+        raise CommandError(f"{path} is {kind}; give the office store file")
     return Store.open(path)
+
+
+def print_results(results: list[dict], as_json: bool) -> int:
+    """Print import results, one line (or JSON object) per file; the exit code they make."""
+    if as_json:
+        print(json.dumps(results, indent=1))
+    else:
+        for result in results:
+            print(f"{shown(result['file'])}: {shown(result['message'])}")
+    return EXIT_REJECTED if any(r["status"] in NEEDS_A_PERSON for r in results) else 0
 
 
 @cli.command(
@@ -34,13 +57,13 @@ def _existing_store(path: str) -> Store:
 @option("--outbox", required=True, metavar="DIR", help="folder for the packages")
 def pack(store: str, outbox: str) -> int:
     """Pack every finished visit; one line per package."""
-    with _existing_store(store) as opened, Progress("packing") as progress:
+    with existing_store(store) as opened, Progress("packing") as progress:
         try:
             results = pack_visits(opened, outbox, progress=progress.callback)
         except OSError as exc:
             raise CommandError(f"cannot write packages to {outbox} ({exc.strerror})") from None
     for result in results:
-        print(f"{result['status']:<9} {result['path']}")
+        print(f"{result['status']:<9} {shown(result['path'])}")
     if not results:
         print("no finished visits to pack")
     return 0
@@ -51,9 +74,11 @@ def pack(store: str, outbox: str) -> int:
     short_help="merge visit packages into the office store",
     help="Verify and merge package files (or folders of them) into the OFFICE "
     "store, created if absent.  Importing a file again changes nothing.  Damaged, "
-    "truncated, altered or foreign files are rejected and change nothing.  A visit "
+    "truncated or foreign files are rejected and change nothing.  A package from a device "
+    "the office does not trust (see `stakeline devices trust`), or changed after it was "
+    "signed, is held: kept whole, not merged, listed by `stakeline conflicts`.  A visit "
     "changed on two devices keeps both copies and is reported as a conflict.  Exit 0 "
-    "when every file was imported or already present, 1 when any was rejected or "
+    "when every file was imported or already present, 1 when any was rejected, held or "
     "conflicts.",
 )
 @argument("files", "package files or folders", nargs=-1, required=True, metavar="FILE...")
@@ -61,25 +86,17 @@ def pack(store: str, outbox: str) -> int:
 @json_option("print a JSON list, one object per file")
 def import_packages(files: tuple[str, ...], into: str, as_json: bool) -> int:
     """Import package files into the office store; one line (or object) per file."""
-    if os.path.isdir(into):
-        raise CommandError(f"{into} is a folder; give the office store file")
-    with Store.open(into) as store, Progress("importing") as progress:
+    with writable_store(into) as store, Progress("importing") as progress:
         try:
             results = import_files(store, files, progress=progress.callback)
-        except (OSError, sqlite3.DatabaseError) as exc:
+        except OSError as exc:  # a folder that cannot be listed, say; the store is not at fault
             raise CommandError(
-                f"the office store failed ({exc}); files already imported stay imported, "
-                "run the same import again"
+                f"cannot read {exc.filename or 'the files'} ({exc.strerror or exc}); files "
+                "imported before it stay imported"
             ) from None
     if not results:
         raise CommandError("no package files found in the given folders")
-    if as_json:
-        print(json.dumps(results, indent=1))
-    else:
-        for result in results:
-            print(f"{result['file']}: {result['message']}")
-    failed = any(r["status"] in ("rejected", "conflict") for r in results)
-    return EXIT_REJECTED if failed else 0
+    return print_results(results, as_json)
 
 
 @cli.command(
@@ -91,7 +108,7 @@ def import_packages(files: tuple[str, ...], into: str, as_json: bool) -> int:
 @store_option(help="store file to create")
 def demo(store: str) -> int:
     """Create a store holding the demo survey."""
-    if os.path.exists(store):
+    if os.path.lexists(store):
         raise CommandError(f"{store} already exists; give a new store file name")
     with Store.open(store) as opened:
         visits = opened.load_demo()
@@ -111,7 +128,7 @@ def demo(store: str) -> int:
 )
 def visits(store: str, as_json: bool) -> int:
     """List the visits of a store."""
-    with _existing_store(store) as opened:
+    with existing_store(store, readonly=True) as opened:
         rows = opened.visits()
     keys = ("uuid", "site", "section", "date", "station_count", "finished")
     if as_json:
@@ -123,31 +140,39 @@ def visits(store: str, as_json: bool) -> int:
         state = "finished" if row["finished"] else "open"
         state += ", conflict to resolve" if row["conflict"] else ""
         print(
-            f"{row['uuid']}  {row['date']}  {row['site']} / {row['section']}  "
-            f"{row['station_count']} stations  {state}"
+            f"{shown(row['uuid'])}  {shown(row['date'])}  {shown(row['site'])} / "
+            f"{shown(row['section'])}  {row['station_count']} stations  {state}"
         )
     return 0
 
 
 @cli.command(
     "conflicts",
-    short_help="list imported packages that conflict with the office copy",
-    help="List the unresolved conflicts in the OFFICE store: packages of a visit "
-    "(or its section or site) that was changed both in the office copy and on a device.",
+    short_help="list packages that need a person: conflicts and held packages",
+    help="List the unresolved conflicts in the OFFICE store (packages of a visit, or its "
+    "section or site, changed both in the office copy and on a device) and the held "
+    "packages (kept whole but not merged: unsigned, changed after signing, or from a device "
+    "the office does not trust or has retired), each with its status and reason.",
 )
 @store_option("OFFICE", help="the office store file")
-@json_option("print a JSON list of conflicts")
+@json_option(
+    "print a JSON list: the conflicts, then the held packages (status 'held', with signer_key "
+    "and fingerprint)"
+)
 def conflicts(store: str, as_json: bool) -> int:
-    """List unresolved conflicts."""
-    with _existing_store(store) as opened:
-        entries = opened.conflicts()
+    """List unresolved conflicts and held packages."""
+    with existing_store(store, readonly=True) as opened:
+        entries = opened.conflicts() + opened.held_packages()
     if as_json:
         print(json.dumps(entries, indent=1))
         return 0
     if not entries:
         print("no conflicts to resolve")
     for entry in entries:
-        print(f"{entry['file_sha'][:12]}  from {entry['device']}  {entry['reason']}")
+        print(
+            f"{entry['file_sha'][:12]}  {entry['status']:<8}  from {shown(entry['device'])}  "
+            f"{shown(str(entry['reason'] or '').removeprefix('held: '))}"
+        )
     return 0
 
 
@@ -165,7 +190,7 @@ def conflicts(store: str, as_json: bool) -> int:
         help="how to resolve it")  # fmt: skip
 def resolve(checksum: str, store: str, keep: str) -> int:
     """Resolve one conflict."""
-    with _existing_store(store) as opened:
+    with existing_store(store) as opened:
         entry = opened.resolve_conflict(checksum, keep=keep)
     print(f"{entry['file_sha'][:12]}: resolved ({keep})")
     return 0

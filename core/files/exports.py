@@ -42,10 +42,43 @@ def _number(value, digits: int) -> str:
     return "" if value is None else f"{float(value):.{digits}f}"
 
 
-def stations_csv(stations: Sequence[dict], unit: str) -> str:
+def signed_by(signer: dict | None, visit: dict) -> str:
+    """One line naming who vouches for a visit's records (chain of custody), for a report or
+    an export.
+
+    ``signer`` is :meth:`stakeline.store.Store.visit_signer`'s dict (the device whose signed
+    package brought the visit, and who trusted that device), or None when the visit was not
+    brought by a signed package: then the device that entered it is named.  Names are quoted
+    with their control characters escaped.
+
+    Examples
+    --------
+    >>> signer = {"device": "tablet-7", "fingerprint": "ab12-cd34", "trusted_by": "ana@office",
+    ...           "trusted_at": "2026-05-01T09:00:00+00:00", "retired_at": None,
+    ...           "imported": "2026-05-02T10:00:00+00:00"}
+    >>> signed_by(signer, {})
+    "signed by device 'tablet-7' (key ab12-cd34), trusted by 'ana@office' on 2026-05-01; imported 2026-05-02"
+    >>> signed_by(None, {"device": "office-pc"})
+    "not from a signed package: entered on device 'office-pc'"
+    """
+    if signer is None:
+        return f"not from a signed package: entered on device {str(visit.get('device') or '?')!r}"
+    line = (
+        f"signed by device {str(signer['device'])!r} (key {signer['fingerprint']}), trusted by "
+        f"{str(signer.get('trusted_by') or '?')!r} on {str(signer.get('trusted_at') or '?')[:10]}"
+        f"; imported {str(signer.get('imported') or '?')[:10]}"
+    )
+    if signer.get("retired_at"):
+        line += f"; the key was retired on {str(signer['retired_at'])[:10]}"
+    return line
+
+
+def stations_csv(stations: Sequence[dict], unit: str, custody: str | None = None) -> str:
     """CSV text of station records (dicts with station, reading, elevation, code, note).
 
-    Lengths in the survey unit ``unit`` (named in the ``unit`` column); 4 decimals.
+    Lengths in the survey unit ``unit`` (named in the ``unit`` column); 4 decimals.  ``custody``
+    (:func:`signed_by`) is written as a comment line ``# ...`` before the header row; the
+    section reader skips such lines, so the file still reads back with ``stakeline section``.
     """
     check_unit(unit)
     rows = [list(STATION_COLUMNS)]
@@ -60,7 +93,8 @@ def stations_csv(stations: Sequence[dict], unit: str) -> str:
                 unit,
             ]
         )
-    return _text(rows)
+    comment = "" if custody is None else "# " + " ".join(str(custody).splitlines()) + "\n"
+    return comment + _text(rows)
 
 
 def rating_csv(table: dict, unit: str) -> str:
@@ -143,12 +177,15 @@ def _point(lonlat) -> list[float]:
     ]
 
 
-def section_geojson(section: dict, visit: dict, stations: Sequence[dict], unit: str) -> dict:
+def section_geojson(
+    section: dict, visit: dict, stations: Sequence[dict], unit: str, custody: str | None = None
+) -> dict:
     """GeoJSON FeatureCollection (RFC 7946) of the section line, its stakes and its stations.
 
     ``section`` needs ``left_coordinates``/``right_coordinates`` as (lon, lat); ``visit`` gives
     ``date``, ``origin`` and optional ``stake_distance``.  Elevations stay in the survey unit,
-    named in each feature's ``unit`` property.  Raises SurveyError without stake coordinates.
+    named in each feature's ``unit`` property.  ``custody`` (:func:`signed_by`) becomes the
+    section line's ``signed_by`` property.  Raises SurveyError without stake coordinates.
     """
     left, right = section.get("left_coordinates"), section.get("right_coordinates")
     if not left or not right:
@@ -172,6 +209,8 @@ def section_geojson(section: dict, visit: dict, stations: Sequence[dict], unit: 
             "properties": {**common, "kind": "section line", "origin": origin},
         }
     ]
+    if custody is not None:
+        features[0]["properties"]["signed_by"] = str(custody)
     for side, where in (("left", left), ("right", right)):
         name = section.get(f"{side}_stake", side)
         features.append(
@@ -185,7 +224,7 @@ def section_geojson(section: dict, visit: dict, stations: Sequence[dict], unit: 
         props = {
             "kind": "station",
             "station": float(s["station"]),
-            "elevation": float(s["elevation"]),
+            "elevation": None if s.get("elevation") is None else float(s["elevation"]),
             "code": s.get("code", "") or "",
             "note": s.get("note", "") or "",
             "unit": unit,

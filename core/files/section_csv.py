@@ -7,14 +7,19 @@ person can open the file and fix it.
 from __future__ import annotations
 
 import csv
+import io
 from dataclasses import dataclass, field
 from pathlib import Path
 
 from stakeline.errors import SectionFileError
+from stakeline.files.durable import NotRegularFileError, read_regular
 from stakeline.survey.numbers import NumberError, parse_number
 from stakeline.survey.units import Unit
 
 REQUIRED = ("station", "elevation")
+
+MAX_BYTES = 64 * 1024 * 1024
+"""Largest section file read (bytes); 20,000 stations with codes and notes take about 1 MB."""
 
 
 @dataclass(frozen=True)
@@ -51,7 +56,8 @@ def read_section_csv(path: str | Path, *, keep_order: bool = False) -> SectionRo
     """Read stations and elevations (survey unit) from a CSV file with a header row.
 
     Columns are matched case-insensitively; other columns are kept as text in ``extra``.  Blank
-    lines are skipped.  Raises :class:`stakeline.errors.SectionFileError` naming the file and the
+    lines are skipped, and so are comment lines starting with ``#`` before the header row (an
+    export's custody line).  Raises :class:`stakeline.errors.SectionFileError` naming the file and the
     row at fault: a value that is not a number, or beyond ±10^6 of the unit.  A station less than
     the one before it, or closer to it than a micrometre (yet not equal), is an error too, unless
     ``keep_order`` is true: then the rows are returned in file order as they are, for the field
@@ -68,12 +74,23 @@ def read_section_csv(path: str | Path, *, keep_order: bool = False) -> SectionRo
     """
     path = Path(path)
     try:
-        with path.open(newline="", encoding="utf-8-sig") as handle:
-            lines = list(csv.reader(handle))
+        data = read_regular(path, MAX_BYTES)
+        if len(data) > MAX_BYTES:
+            raise SectionFileError(
+                f"{path}: the file is larger than a section file may be ({MAX_BYTES:,} bytes); "
+                "check it is the right file"
+            )
+        lines = list(csv.reader(io.StringIO(data.decode("utf-8-sig"), newline="")))
     except FileNotFoundError:
         raise SectionFileError(f"{path}: no such file") from None
+    except NotRegularFileError as exc:
+        raise SectionFileError(f"{path}: {exc}; give the section file") from None
     except (OSError, UnicodeDecodeError, csv.Error) as exc:
         raise SectionFileError(f"{path}: cannot be read as a text CSV file ({exc})") from None
+    skipped = 0  # comment lines ("# signed by ...") before the header row
+    while skipped < len(lines) and lines[skipped] and lines[skipped][0].lstrip().startswith("#"):
+        skipped += 1
+    lines = lines[skipped:]
     if not lines:
         raise SectionFileError(
             f"{path}: the file is empty (no 'station' column); expected a header row with "
@@ -83,13 +100,14 @@ def read_section_csv(path: str | Path, *, keep_order: bool = False) -> SectionRo
     for name in REQUIRED:
         if name not in header:
             raise SectionFileError(
-                f"{path}: row 1: no {name!r} column in the header ({_shown(header) or 'empty'})",
-                row=1,
+                f"{path}: row {skipped + 1}: no {name!r} column in the header "
+                f"({_shown(header) or 'empty'})",
+                row=skipped + 1,
             )
     where = {name: header.index(name) for name in header}
     stations, elevations, rows = [], [], []
     extra: dict[str, list[str]] = {n: [] for n in header if n not in REQUIRED}
-    for number, cells in enumerate(lines[1:], start=2):
+    for number, cells in enumerate(lines[1:], start=skipped + 2):
         if not any(cell.strip() for cell in cells):
             continue
         if len(cells) < len(header):

@@ -14,6 +14,7 @@ import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.backends.backend_pdf import PdfPages
 from matplotlib.figure import Figure
+from stakeline.files.exports import signed_by
 from stakeline.report.plots import (  # noqa: F401  (write_*: their old home)
     FLAG_COLOUR,
     FOOTER,
@@ -198,7 +199,12 @@ def _summary_page(data: ReportData) -> Figure:
         info += f"\n{note}"
     if data.visit.get("notes"):
         info += f"\nNotes: {data.visit['notes']}"
-    _paragraph(fig, 0.925, info, 8)
+    top = 0.925
+    if "signer" in data.visit:  # the command line names who vouches for the records
+        custody = "Chain of custody: " + signed_by(data.visit["signer"], data.visit)
+        fig.text(0.05, 0.931, custody, fontsize=7.5, style="italic")
+        top = 0.915
+    _paragraph(fig, top, info, 8)
     section_plot(fig.add_axes((0.1, 0.57, 0.85, 0.3)), data)
     p = data.precision
     top = _heading(fig, 0.525, "Figures at the water level")

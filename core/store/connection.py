@@ -78,6 +78,8 @@ def _connect_readonly(path: str) -> sqlite3.Connection:
             failure = exc
             if "unable to open" not in str(exc) and "readonly" not in str(exc):
                 break
+    if str(failure).startswith("file is not a database"):  # as a writable open says it
+        raise StoreError(f"{path} is not a Stakeline store ({failure})") from None
     fault = store_fault(failure, path)
     if fault is None or isinstance(failure, sqlite3.OperationalError):
         raise StoreError(f"cannot read the store {path} ({failure})") from None
