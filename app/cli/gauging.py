@@ -6,12 +6,13 @@ from __future__ import annotations
 import json
 
 import click
-from stakeline.app.cli.base import cli
-from stakeline.app.cli.inputs import source
+from stakeline.app.cli.base import CommandError, cli
+from stakeline.app.cli.inputs import input_file, source
 from stakeline.app.cli.options import argument, file_argument, json_option, option, units_option
 from stakeline.files.gauging_csv import read_gauging_csv
 from stakeline.gauging import CAUTION, DISCHARGE_METHODS, analyse_gauging, calibrate_n
 from stakeline.survey.hydraulics import figure_unit
+from stakeline.survey.numbers import parse_number
 from stakeline.survey.uncertainty import Precision
 
 UNIT_SYSTEMS = {"si": "m", "us": "ft"}
@@ -38,7 +39,7 @@ UNIT_SYSTEMS = {"si": "m", "us": "ft"}
 def discharge(file: str, method: str, units: str, as_json: bool) -> int:
     """Print the measured discharge and its panels."""
     unit = UNIT_SYSTEMS[units]
-    rows = read_gauging_csv(file)
+    rows = read_gauging_csv(input_file(file))
     result = analyse_gauging(
         rows.stations, rows.depths, rows.velocities, method, unit=unit,
         angles=rows.angles, points=rows.points or None,
@@ -98,6 +99,15 @@ def calibrate(
 ) -> int:  # fmt: skip
     """Print the calibrated n."""
     section, _, unit, _, _ = source(file, None, None, units)
+    if not 0 <= parse_number(discharge_uncertainty, "--discharge-uncertainty") < 1:
+        raise CommandError(
+            f"--discharge-uncertainty {discharge_uncertainty:g} is not a relative uncertainty "
+            "from 0 to below 1 (0.03 is 3 %)"
+        )
+    if not 0 <= parse_number(slope_error, "--slope-error") < abs(slope):
+        raise CommandError(
+            f"--slope-error {slope_error:g} must be from 0 to below the slope ({slope:g})"
+        )
     result = calibrate_n(
         section, stage, measured, slope, unit,
         discharge_uncertainty=discharge_uncertainty, slope_uncertainty=slope_error,

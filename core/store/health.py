@@ -180,6 +180,12 @@ def salvage(source: str | os.PathLike, target: str | os.PathLike) -> dict:
         raise StoreError(f"no store file at {source}")
     old = _open_source(source)
     try:
+        present = _tables(old)
+        if present is not None and not present & set(COPY_ORDER):
+            raise StoreError(
+                f"nothing to salvage: {source} holds no Stakeline records (an empty or foreign "
+                "file)"
+            )
         try:
             device = old.execute("SELECT value FROM meta WHERE key = 'device_id'").fetchone()
         except sqlite3.DatabaseError:
@@ -189,6 +195,9 @@ def salvage(source: str | os.PathLike, target: str | os.PathLike) -> dict:
             conn = new.conn
             conn.execute("PRAGMA foreign_keys = OFF")  # keep records whose owner was lost
             for table in COPY_ORDER:
+                if present is not None and table not in present:  # an older store's gap
+                    tables[table] = {"copied": 0, "unreadable": 0}
+                    continue
                 tables[table] = _copy_table(old, conn, table, new.db[table].columns_dict)
             orphans = _orphans(conn)
             check = "; ".join(r[0] for r in conn.execute("PRAGMA quick_check"))
@@ -197,6 +206,14 @@ def salvage(source: str | os.PathLike, target: str | os.PathLike) -> dict:
         old.close()
     return {"source": source, "target": target, "tables": tables, "orphans": orphans,
             "check": check}  # fmt: skip
+
+
+def _tables(old: sqlite3.Connection) -> set[str] | None:
+    """The tables the old file's schema names; None when the schema itself cannot be read."""
+    try:
+        return {r[0] for r in old.execute("SELECT name FROM sqlite_master WHERE type = 'table'")}
+    except sqlite3.DatabaseError:
+        return None
 
 
 def _copy_table(old: sqlite3.Connection, conn: sqlite3.Connection, table: str, wanted) -> dict:
