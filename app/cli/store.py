@@ -25,6 +25,8 @@ def existing_store(path: str, readonly: bool = False) -> Store:
     """The existing store file at ``path`` (read-only for commands that only read, so they
     work on a read-only file system too)."""
     store_file(path, f"no store file at {path}; create one with 'stakeline demo' or the app")
+    if not readonly:
+        refuse_read_only_file_system(path)
     return Store.open(path, readonly=readonly)
 
 
@@ -33,7 +35,24 @@ def writable_store(path: str) -> Store:
     kind = "a folder" if os.path.isdir(path) else not_regular(path)
     if kind is not None:
         raise CommandError(f"{path} is {kind}; give the office store file")
+    refuse_read_only_file_system(path)
     return Store.open(path)
+
+
+def refuse_read_only_file_system(path: str) -> None:
+    """A one-line refusal when the store at ``path`` sits on a file system mounted read-only
+    (SQLite would only say it cannot open the file)."""
+    folder = os.path.dirname(os.path.abspath(path))
+    try:
+        read_only = bool(os.statvfs(folder).f_flag & os.ST_RDONLY)
+    except (OSError, AttributeError):  # no such folder (made later), or no statvfs here
+        return
+    if read_only:
+        raise CommandError(
+            f"{path} is on a read-only file system: this command writes to the store, which "
+            "cannot be done there; commands that only read it still work -- copy the store "
+            "to a writable folder to change it"
+        )
 
 
 def print_results(results: list[dict], as_json: bool) -> int:

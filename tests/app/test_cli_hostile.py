@@ -161,9 +161,10 @@ def mutations(path: str):
                 "csv", "csv2", "gauging", "package", "key")  # fmt: skip
             if is_file or (at and base[at - 1] in PATH_OPTIONS):
                 for kind in PATH_KINDS:
-                    yield f"{base[at - 1] if not is_file else word}={kind}", [
-                        *base[:at], f"<{kind}>", *base[at + 1 :]
-                    ]
+                    yield (
+                        f"{base[at - 1] if not is_file else word}={kind}",
+                        [*base[:at], f"<{kind}>", *base[at + 1 :]],
+                    )
 
 
 def test_every_number_option_is_reached():

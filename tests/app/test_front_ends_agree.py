@@ -3,12 +3,19 @@
 earlier visit.
 
 Each front end is a function ``(store_path, visit_uuid) -> {figure: number}`` in
-:data:`FRONT_ENDS`; a new front end (the command line's ``--json``) is one more entry.  The
+:data:`FRONT_ENDS` (the report, the tablet's office figures, and the command line's ``--json``
+outputs); a new front end is one more entry.  The
 numbers themselves are checked against closed forms elsewhere (tests/analysis,
 tests/app/test_ui_service.py); here only their agreement is.
 """
 
 from __future__ import annotations
+
+import contextlib
+import io
+import json
+import tempfile
+from pathlib import Path
 
 import pytest
 from stakeline.analysis import earlier_visit
@@ -69,7 +76,53 @@ def tablet_numbers(store_path: str, visit_uuid: str) -> dict[str, float]:
     return out
 
 
-FRONT_ENDS = {"report": report_numbers, "tablet": tablet_numbers}
+def cli_json(*argv) -> dict:
+    """The ``--json`` output of one ``stakeline`` command, run in this process."""
+    from stakeline.app.cli import main
+
+    printed = io.StringIO()
+    with contextlib.redirect_stdout(printed):
+        assert main([str(a) for a in argv]) == 0, argv
+    return json.loads(printed.getvalue())
+
+
+def cli_numbers(store_path: str, visit_uuid: str) -> dict[str, float]:
+    """The numbers the command line shows for one visit: ``stakeline figures --json`` for the
+    visit's figures, ``stakeline flow --json`` on the visit's exported stations file for the
+    hydraulics, ``stakeline compare --json`` with the earlier visit for the change."""
+    rough = ["--roughness", ROW, "--slope", SLOPE]
+    shown = cli_json("figures", "--store", store_path, "--visit", visit_uuid, *rough, "--json")
+    earlier = shown["earlier"]
+    out = {"stage": shown["stage"], "earlier": earlier["date"] if earlier else ""}
+    for name, band in shown["bands"].items():
+        out[name], out[f"{name} ±"] = band["value"], band["plus_minus"]
+    with tempfile.TemporaryDirectory() as folder:
+        from stakeline.app.cli import main
+
+        with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+            assert (
+                main(["export", "--store", store_path, "--visit", visit_uuid, "--out", folder]) == 0
+            )
+        (stations,) = Path(folder).glob("*_stations.csv")
+        flow = cli_json("flow", stations, "--stage", shown["stage"], "--bank-tops", *rough,
+                        "--json")  # fmt: skip
+    for name in ("velocity", "froude", "shear_stress", "stream_power"):
+        out[name] = flow[name]
+    assert flow["discharge"] == pytest.approx(out["discharge"], rel=1e-12)
+    out["discharge at low n"] = shown["n_range"]["minimum"]
+    out["discharge at high n"] = shown["n_range"]["maximum"]
+    for name in ("stage", "width", "mean_depth", "max_depth", "area"):
+        out[f"bankfull {name}"] = shown["bankfull"][name]
+    if earlier:
+        change = cli_json("compare", "--store", store_path, "--visit", earlier["uuid"],
+                          "--visit", visit_uuid, "--json")  # fmt: skip
+        change["deepest_change"] = -change["deepest_drop"]
+        for name in ("scour_area", "fill_area", "net_change", "deepest_shift", "deepest_change"):
+            out[name] = change[name]
+    return out
+
+
+FRONT_ENDS = {"report": report_numbers, "tablet": tablet_numbers, "cli": cli_numbers}
 """Every office front end, by name: ``(store_path, visit_uuid) -> numbers``."""
 
 
@@ -100,3 +153,24 @@ def test_every_front_end_shows_the_same_numbers(demo_store, key):
         assert reference["stage"] == pytest.approx((99.98 + 99.97) / 2)  # the demo's two levels
     else:
         assert reference["earlier"] == "2026-04-14"
+
+
+def test_the_command_line_rating_is_the_report_rating(demo_store):
+    path, visits = demo_store
+    visit = visits[("XS1 riffle", "2026-09-22")]
+    with Store.open(path) as store:
+        found = store.visit(visit)
+        data = prepare_report(
+            found, store.stations(visit), ReportOptions(roughness=ROW, slope=SLOPE)
+        )
+    from stakeline.app.cli import main
+
+    printed = io.StringIO()
+    with contextlib.redirect_stdout(printed):
+        assert main(["rating", "--store", path, "--visit", visit, "--roughness", ROW,
+                     "--slope", str(SLOPE), "--csv"]) == 0  # fmt: skip
+    rows = [line.split(",") for line in printed.getvalue().splitlines()[1:]]
+    assert len(rows) == len(data.rating["stage"])
+    for name, column in (("stage", 0), ("discharge", -1)):  # the CSV keeps 6 significant digits
+        got = [float(row[column]) for row in rows]
+        assert got == pytest.approx(list(data.rating[name]), rel=1e-5, abs=1e-9), name
