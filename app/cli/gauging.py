@@ -8,14 +8,19 @@ import json
 import click
 from stakeline.app.cli.base import CommandError, cli
 from stakeline.app.cli.inputs import input_file, source
-from stakeline.app.cli.options import argument, file_argument, json_option, option, units_option
+from stakeline.app.cli.options import (
+    UNIT_SYSTEMS,
+    argument,
+    file_argument,
+    json_option,
+    option,
+    units_option,
+)
 from stakeline.files.gauging_csv import read_gauging_csv
 from stakeline.gauging import CAUTION, DISCHARGE_METHODS, analyse_gauging, calibrate_n
 from stakeline.survey.hydraulics import figure_unit
 from stakeline.survey.numbers import parse_number
 from stakeline.survey.uncertainty import Precision
-
-UNIT_SYSTEMS = {"si": "m", "us": "ft"}
 
 
 @cli.command(

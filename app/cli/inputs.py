@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import os
 import stat
-from pathlib import Path
 
 import click
 from stakeline.analysis import live_stations, visit_water_level
@@ -135,8 +134,3 @@ def source(file: str | None, store: str | None, visit: str | None, units: str = 
     found = find_visit(opened, visit)
     stations = visit_stations(opened, found)
     return section_of(stations), stations, found["unit"], found, opened
-
-
-def file_name(path: str) -> str:
-    """A section file's name for a title (the stem without folders)."""
-    return Path(path).name

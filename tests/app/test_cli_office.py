@@ -364,3 +364,22 @@ def test_compare_plot(capsys, demo_store, tmp_path):
     )
     assert code == 0 and json.loads(out)["scour_area"] > 0 and "wrote" in err
     assert plot.read_bytes()[:4] == b"\x89PNG"
+
+
+def test_figures_json_keys_and_text(capsys, demo_store):
+    from stakeline.app.cli.figures import FIGURES_KEYS
+
+    path, visits = demo_store
+    visit = visits[("XS1 riffle", "2026-09-22")]
+    rough = ["--roughness", "mountain-gravel", "--slope", 0.004]
+    code, out, err = run(capsys, "figures", "--store", path, "--visit", visit, *rough, "--json")
+    got = json.loads(out)
+    assert code == 0 and tuple(got) == FIGURES_KEYS and err == ""
+    assert got["earlier"]["date"] == "2026-04-14" and got["flow"]["discharge"] > 0
+    # The water level policy: the one level recorded on that visit (demo data).
+    assert (
+        got["stage"] == pytest.approx(99.91) and got["stage_source"] == "the water level recorded"
+    )
+    code, out, _ = run(capsys, "figures", "--store", path, "--visit", visit, *rough)
+    assert code == 0 and "m³/s" in out and "change since 2026-04-14" in out
+    assert "licensed review" in out
