@@ -15,11 +15,13 @@ Errors name the row (1-based, the header is row 1), as :mod:`stakeline.files.sec
 from __future__ import annotations
 
 import csv
+import io
 import math
 from dataclasses import dataclass, field
 from pathlib import Path
 
 from stakeline.errors import SectionFileError
+from stakeline.files.durable import NotRegularFileError, read_regular
 from stakeline.gauging.units import GaugingError
 from stakeline.gauging.vertical import mean_velocity, method_for_points
 
@@ -70,16 +72,17 @@ def _number(text: str, column: str, row: int) -> float:
 
 def _lines(path: Path) -> list[list[str]]:
     try:
-        size = path.stat().st_size
-        if size > MAX_BYTES:
+        data = read_regular(path, MAX_BYTES)
+        if len(data) > MAX_BYTES:
             raise GaugingFileError(
-                f"{path}: the file is {size:,} bytes, more than a gauging file may be "
-                f"({MAX_BYTES:,}); check it is the right file"
+                f"{path}: the file is larger than a gauging file may be ({MAX_BYTES:,} bytes); "
+                "check it is the right file"
             )
-        with path.open(newline="", encoding="utf-8-sig") as handle:
-            return list(csv.reader(handle))
+        return list(csv.reader(io.StringIO(data.decode("utf-8-sig"), newline="")))
     except FileNotFoundError:
         raise GaugingFileError(f"{path}: no such file") from None
+    except NotRegularFileError as exc:
+        raise GaugingFileError(f"{path}: {exc}") from None
     except (OSError, UnicodeDecodeError, csv.Error) as exc:
         raise GaugingFileError(f"{path}: cannot be read as a text CSV file ({exc})") from None
 

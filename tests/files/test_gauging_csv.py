@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import math
+import os
 
 import pytest
 from stakeline.errors import SectionFileError, SurveyError
@@ -111,9 +112,17 @@ def test_missing_binary_and_oversized_files(tmp_path, monkeypatch):
         read_gauging_csv(path)
     big = write(tmp_path, "station,depth,velocity\n" + "".join(f"{i},0.1,0.1\n" for i in range(50)))
     monkeypatch.setattr(gauging_csv, "MAX_BYTES", 200)
-    with pytest.raises(GaugingFileError, match=r"bytes, more than a gauging file may be \(200\)"):
+    with pytest.raises(GaugingFileError, match=r"larger than a gauging file may be \(200 bytes\)"):
         read_gauging_csv(big)
     monkeypatch.setattr(gauging_csv, "MAX_BYTES", 10_000)
     monkeypatch.setattr(gauging_csv, "MAX_ROWS", 10)
     with pytest.raises(GaugingFileError, match="more than 10 rows"):
         read_gauging_csv(big)
+
+
+def test_a_named_pipe_is_refused_without_waiting(tmp_path):
+
+    pipe = tmp_path / "verticals.csv"
+    os.mkfifo(pipe)  # nobody writes: reading it would wait for ever
+    with pytest.raises(GaugingFileError, match="pipe|not a regular file"):
+        read_gauging_csv(pipe)
