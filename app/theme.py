@@ -41,6 +41,18 @@ GRID = hex_colour("#C9C3B3")
 STATE_COLOURS = {"saved": ACCEPT, "unsaved": CAUTION, "flagged": DANGER, "none": INK_SOFT}
 """Text colour of each entry state on paper; words always accompany the colour."""
 
+TONE_COLOURS = {
+    "plain": BUTTON,
+    "accept": ACCEPT,
+    "danger": DANGER,
+    "caution": CAUTION,
+    "selected": TOGGLE_ON,
+}
+"""Background of a button of each tone (text is ON_DARK, or INK on the light ``selected``)."""
+
+SEVERITY_COLOURS = {"block": DANGER, "warn": CAUTION, "note": INK_SOFT}
+"""Text and stripe colour of a field-check finding of each severity, on a panel."""
+
 TEXT_PAIRS = {
     "body on paper": (INK, PAPER),
     "secondary on paper": (INK_SOFT, PAPER),
@@ -57,19 +69,30 @@ TEXT_PAIRS = {
     "unsaved on paper": (CAUTION, PAPER),
     "flagged on paper": (DANGER, PAPER),
     "flagged on panel": (DANGER, PANEL),
+    "saved on panel": (ACCEPT, PANEL),
+    "caution on panel": (CAUTION, PANEL),
+    "secondary on active field": (INK_SOFT, ACTIVE_FIELD),
+    "secondary on signal yellow": (INK_SOFT, TOGGLE_ON),
+    "dialog text": (INK, PAPER),
 }
 """Every foreground/background pair the screens use for text (checked >= 7:1 in the tests)."""
 
 # --- sizes (dp for lengths, sp for text) -----------------------------------------------------------
 TARGET = 64  # dp: every tappable thing is at least this tall (gloves want 64-72 dp)
-KEY = 72  # dp: keypad keys
+TARGET_COMPACT = 52  # dp: targets on short windows (under COMPACT_BELOW); Material's minimum is 48
+MIN_TARGET = 48  # dp: no target is ever smaller (Material Design's minimum touch target)
+COMPACT_BELOW = 720  # dp: a window less tall than this uses the compact sizes
+KEY = 72  # dp: keypad keys (at most; they shrink to MIN_TARGET to fit a short window)
 GAP = 8  # dp: spacing between targets
 PAD = 12  # dp: panel padding
 TEXT = 20  # sp: body text
 SMALL = 17  # sp: secondary text (still large for a tablet)
 VALUE = 28  # sp: numbers a crew reads (>= 24 sp)
 BIG = 44  # sp: the reading being typed
+BIG_COMPACT = 36  # sp: the reading being typed, on a short window
 HUGE = 60  # sp: the station distance on the readings screen
+HUGE_COMPACT = 44  # sp: the station distance, on a short window
+MIN_VALUE = 24  # sp: no number a crew reads is ever smaller
 KEY_TEXT = 34  # sp: keypad digits
 
 

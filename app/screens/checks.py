@@ -1,16 +1,23 @@
 """Checks before leaving: the field-check findings (tap one to go to its station), a written
-reason to finish despite blocking findings, and finishing -- which writes the visit's package to
-the outbox and says where."""
+reason to finish despite blocking findings, and finishing -- which shows what will be sent (the
+stations read of those planned, the findings, the package's file name), asks once, then writes
+the visit's package to the outbox and says where."""
 
 from __future__ import annotations
 
-from kivy.properties import BooleanProperty, ListProperty, NumericProperty, StringProperty
+from kivy.properties import (
+    BooleanProperty,
+    ColorProperty,
+    ListProperty,
+    NumericProperty,
+    StringProperty,
+)
 from kivy.uix.behaviors import ButtonBehavior
 from kivy.uix.boxlayout import BoxLayout
-from stakeline.app import kv
+from stakeline.app import theme
 from stakeline.app.screens.base import BaseScreen
-
-kv.load("screens/checks.kv")
+from stakeline.app.service import short_path
+from stakeline.app.widgets.popups import ConfirmPopup
 
 SEVERITY_WORDS = {"block": "MUST FIX", "warn": "LOOK AT", "note": "NOTE"}
 
@@ -23,10 +30,24 @@ class FindingRow(ButtonBehavior, BoxLayout):
     body = StringProperty("")
     has_station = BooleanProperty(False)
     station = NumericProperty(0.0)
+    colour = ColorProperty(theme.INK_SOFT)
+    fill = ColorProperty(theme.PANEL)
+    heading_text = StringProperty("")
+
+    def on_kv_post(self, _base_widget) -> None:
+        """Colours and the heading follow the finding."""
+        for name in ("severity", "state", "heading", "has_station"):
+            self.fbind(name, self._paint)
+        self._paint()
+
+    def _paint(self, *_args) -> None:
+        self.colour = theme.SEVERITY_COLOURS.get(self.severity, theme.INK_SOFT)
+        self.fill = theme.PANEL if self.state == "normal" else theme.TOGGLE_ON
+        self.heading_text = self.heading + ("   (tap to go there)" if self.has_station else "")
 
 
 class ChecksScreen(BaseScreen):
-    """Findings, overrides with a reason, finish and package."""
+    """Findings, overrides with a reason, finish (after one confirmation) and package."""
 
     findings = ListProperty([])
     summary = StringProperty("")
@@ -34,6 +55,19 @@ class ChecksScreen(BaseScreen):
     running = BooleanProperty(False)
     finished = BooleanProperty(False)
     package_path = StringProperty("")
+    reason_needed = BooleanProperty(False)
+    finish_text = StringProperty("Finish visit and write package")
+    confirm = None
+
+    def on_kv_post(self, _base_widget) -> None:
+        """The reason box and the finish button follow the findings."""
+        for name in ("blocking", "finished"):
+            self.fbind(name, self._show_state)
+        self._show_state()
+
+    def _show_state(self, *_args) -> None:
+        self.reason_needed = bool(self.blocking) and not self.finished
+        self.finish_text = "Visit finished" if self.finished else "Finish visit and write package"
 
     def refresh(self) -> None:
         """Run the checks (off the UI thread) and show them when done."""
@@ -42,7 +76,7 @@ class ChecksScreen(BaseScreen):
         self.package_path = ""
         self.running = True
         self.summary = "Checking the readings..."
-        self.service.review_async(self.visit, self._show, self._failed)
+        self.service.review_async(self.visit, self._show, self._failed, key="checks")
 
     def _failed(self, exc: Exception) -> None:
         self.running = False
@@ -55,7 +89,7 @@ class ChecksScreen(BaseScreen):
             return
         self.findings = findings
         self.blocking = len(self.service.blocking(findings))
-        counts = {s: sum(f["severity"] == s for f in findings) for s in SEVERITY_WORDS}
+        counts = self.service.finding_counts(findings)
         if not findings:
             self.summary = "No findings: the readings look consistent."
         else:
@@ -95,10 +129,28 @@ class ChecksScreen(BaseScreen):
             self.app.go("readings", station=row.station)
 
     def finish(self) -> None:
-        """Finish the visit (with the reason when needed) and write its package."""
+        """Show what finishing will send and ask once (the reason is needed first when MUST FIX
+        findings stand)."""
         if self.running:
             self.say("Wait for the checks to finish.", "unsaved")
             return
+        reason = self.ids.reason.text
+        ready = self.attempt(self.service.finish_summary, self.visit, list(self.findings), reason)
+        if ready is None:
+            if self.reason_needed:
+                self.focus(self.ids.reason)
+            return
+        self.confirm = ConfirmPopup(
+            title="Finish this visit?",
+            summary=ready["text"],
+            action_text="Finish and write package",
+        )
+        self.confirm.bind(on_confirm=lambda _popup: self.finish_now())
+        self.confirm.open()
+
+    def finish_now(self) -> None:
+        """Finish the visit (with the reason when needed) and write its package."""
+        self.confirm = None
         reason = self.ids.reason.text
         done = self.attempt(self.service.finish, self.visit, list(self.findings), reason)
         if done is None:
@@ -109,7 +161,14 @@ class ChecksScreen(BaseScreen):
 
     def _written(self, path: str) -> None:
         self.package_path = path
-        self.say(f"Visit finished. Package written to {path}", "saved")
+        self.say(f"Visit finished. Package written to {short_path(path)}", "saved")
 
     def _not_written(self, exc: Exception) -> None:
         self.say(f"Visit finished, but the package could not be written: {exc}", "flagged")
+
+    def leave(self) -> None:
+        """Home (leaving the visit once it is finished)."""
+        if self.finished:
+            self.app.close_visit()
+        else:
+            self.app.go("home")

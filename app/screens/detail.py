@@ -3,34 +3,25 @@ the figures built on it for a chosen roughness row and energy slope, the bankful
 change since the section's earlier visit -- with the caution that they are estimates.
 
 Every figure comes from the service (:class:`stakeline.app.service.office.OfficeFigures`), computed on the
-worker thread; this screen only shows them.
+worker thread; this screen only shows them.  It always opens at the visit's recorded water level
+(a level dragged on the section screen and not recorded never reaches it); only a level typed
+here replaces it.
 """
 
 from __future__ import annotations
 
-from kivy.properties import BooleanProperty, DictProperty, StringProperty
-from kivy.uix.boxlayout import BoxLayout
-from stakeline.app import kv
+from kivy.metrics import dp
+from kivy.properties import BooleanProperty, DictProperty, NumericProperty, StringProperty
 from stakeline.app.screens.base import KeypadScreen
 from stakeline.app.service import ServiceError
-from stakeline.app.widgets.common import Caption, Chip
+from stakeline.app.widgets.common import Caption, Chip, FigureRow
 from stakeline.errors import SurveyError
-
-
-class FigureRow(BoxLayout):
-    """One figure: its name on the left, the value (with ± and unit) large on the right."""
-
-    name = StringProperty("")
-    value = StringProperty("")
 
 
 class RoughnessChip(Chip):
     """A row of the roughness table; ``key`` names it (see :data:`stakeline.survey.roughness.ROUGHNESS`)."""
 
     key = StringProperty("")
-
-
-kv.load("screens/detail.kv")
 
 
 def value_text(row: dict, decimals: int = 3) -> str:
@@ -60,19 +51,32 @@ class DetailScreen(KeypadScreen):
     roughness_key = StringProperty("")
     running = BooleanProperty(False)
     figures = DictProperty({})
+    back_text = StringProperty("Home")
+    portrait = BooleanProperty(False)
+    side_width = NumericProperty(380)
 
     _token = 0
     _again = False
     _inputs: dict = {}
-    _start_level: float | None = None
     _items: list = []
 
-    def prepare(self, back: str | None = None, level: float | None = None, **options) -> None:
-        """``back``: the screen the Back button returns to (``"home"`` or ``"section"``);
-        ``level``: the water level to start at (default: the visit's recorded level)."""
+    def on_kv_post(self, _base_widget) -> None:
+        """Follow the window's shape."""
+        self.fbind("size", self._on_size)
+
+    def _on_size(self, *_args) -> None:
+        self.portrait = self.height > self.width
+        self.side_width = min(max(0.36 * self.width, dp(330)), dp(460))
+
+    def on_back(self, *_args) -> None:
+        """The Back button says where it goes."""
+        self.back_text = "Back to section" if self.back == "section" else "Home"
+
+    def prepare(self, back: str | None = None, **options) -> None:
+        """``back``: the screen the Back button returns to (``"home"`` or ``"section"``).  The
+        figures open at the visit's recorded water level."""
         if back is not None:
             self.back = back
-        self._start_level = level
         super().prepare(**options)
 
     def refresh(self) -> None:
@@ -85,15 +89,13 @@ class DetailScreen(KeypadScreen):
         self.heading = f"Office figures · {inputs['section']}"
         self.place = f"{inputs['site']} · visit of {inputs['date']}"
         self._build_chips()
-        level = self._start_level if self._start_level is not None else inputs["recorded_level"]
+        level = inputs["recorded_level"]
         self.ids.level_field.text = "" if level is None else f"{level:.3f}"
         self.activate(self.ids.level_field)
         if level is None:
             self.say("No water level recorded on this visit: type one.", "unsaved")
-        elif self._start_level is None:
-            self.say(f"At the recorded water level {level:.3f} {self.unit}.", "none")
         else:
-            self.say(f"At the water level from the section screen, {level:.3f} {self.unit}.")
+            self.say(f"At the recorded water level {level:.3f} {self.unit}.", "none")
         self.recompute()
 
     def _build_chips(self) -> None:

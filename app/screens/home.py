@@ -3,9 +3,8 @@ create a new section, open the settings."""
 
 from __future__ import annotations
 
-from kivy.properties import StringProperty
+from kivy.properties import BooleanProperty, StringProperty
 from kivy.uix.boxlayout import BoxLayout
-from stakeline.app import kv
 from stakeline.app.screens.base import BaseScreen
 
 
@@ -16,6 +15,8 @@ class SectionRow(BoxLayout):
     detail = StringProperty("")
     button_text = StringProperty("")
     figures_visit = StringProperty("")
+    open_visit = BooleanProperty(False)
+    dump_key = StringProperty("")
     __events__ = ("on_choose", "on_figures")
 
     def on_choose(self, *_args):
@@ -23,9 +24,6 @@ class SectionRow(BoxLayout):
 
     def on_figures(self, *_args):
         """Default handler: nothing (the home screen opens the office figures)."""
-
-
-kv.load("screens/home.kv")
 
 
 class HomeScreen(BaseScreen):
@@ -42,17 +40,21 @@ class HomeScreen(BaseScreen):
             status = row["last_status"] or "no visits yet"
             if row["open_visit"]:
                 status = "visit open"
+            if row.get("demo"):
+                status += " · invented demo data"
             item = SectionRow(
                 title=f"[b]{row['section']}[/b]  ·  {row['site']}",
                 detail=f"Last visit {row['last_date'] or '—'}  ·  {status}",
                 button_text="Continue visit" if row["open_visit"] else "Start visit",
+                open_visit=bool(row["open_visit"]),
                 figures_visit=row["finished_visit"] or "",
+                dump_key=f"section:{row['section']}",
             )
             item.bind(on_choose=lambda _w, r=row: self.choose(r))
             item.bind(on_figures=lambda w: self.figures(w.figures_visit))
             box.add_widget(item)
-        if rows and not self.ids.site_name.text:
-            self.ids.site_name.text = rows[0]["site"]
+        if not self.ids.site_name.text:
+            self.ids.site_name.text = self.service.last_site()
         resume = self.service.resume_point()
         self.resume_text = ""
         if resume:
@@ -83,11 +85,15 @@ class HomeScreen(BaseScreen):
             self.app.go("readings", station=resume[1])
 
     def create_section(self) -> None:
-        """Create the typed section (and site), start a visit on it, go to the stakes."""
-        section = self.attempt(
-            self.service.create_section, self.ids.site_name.text, self.ids.section_name.text
-        )
-        if section:
-            self.ids.section_name.text = ""
-            visit = self.service.start_visit(section["uuid"])
-            self.app.open_visit(visit, "stakes")
+        """Create the typed section (and site), start a visit on it, go to the stakes (Enter in
+        either box does the same); an empty box gets the keyboard."""
+        site, name = self.ids.site_name, self.ids.section_name
+        section = self.attempt(self.service.create_section, site.text, name.text)
+        if not section:
+            empty = next((f for f in (site, name) if not f.text.strip()), None)
+            if empty is not None:
+                self.focus(empty)
+            return
+        name.text = ""
+        visit = self.service.start_visit(section["uuid"])
+        self.app.open_visit(visit, "stakes")

@@ -10,9 +10,11 @@ from __future__ import annotations
 
 from datetime import datetime
 
-from kivy.factory import Factory
+from kivy.clock import Clock
+from kivy.metrics import dp
 from kivy.properties import (
     BooleanProperty,
+    ColorProperty,
     DictProperty,
     ListProperty,
     NumericProperty,
@@ -21,15 +23,21 @@ from kivy.properties import (
 )
 from kivy.uix.behaviors import ButtonBehavior
 from kivy.uix.boxlayout import BoxLayout
-from kivy.uix.popup import Popup
-from stakeline.app import kv, theme
+from stakeline.app import theme
 from stakeline.app.screens.base import KeypadScreen
 from stakeline.app.service import FEATURE_CODES
-from stakeline.app.widgets import section_view  # noqa: F401  (registers SectionView for the .kv)
-
-kv.load("screens/readings.kv")
+from stakeline.app.widgets.common import Chip
+from stakeline.app.widgets.keypad import key_action
+from stakeline.app.widgets.popups import HistoryPopup, NotePopup
 
 CODE_NAMES = dict(FEATURE_CODES)
+
+STATE_WORDS = {"none": "TO READ", "unsaved": "UNSAVED", "saved": "SAVED", "flagged": "FLAGGED"}
+"""The word beside the station for each entry state (the colour is never the only sign)."""
+
+HISTORY_ACTIONS = {"add": "entered", "correct": "corrected", "remove": "removed"}
+
+KEY_UP, KEY_DOWN = 273, 274
 
 
 class ReadingRow(ButtonBehavior, BoxLayout):
@@ -44,6 +52,21 @@ class ReadingRow(ButtonBehavior, BoxLayout):
     tone = StringProperty("saved")
     current = BooleanProperty(False)
     screen = ObjectProperty(None, allownone=True)
+    fill = ColorProperty(theme.PANEL)
+    state_colour = ColorProperty(theme.ACCEPT)
+
+    def on_kv_post(self, _base_widget) -> None:
+        """Colours follow the row's state."""
+        for name in ("current", "state", "tone"):
+            self.fbind(name, self._paint)
+        self._paint()
+
+    def _paint(self, *_args) -> None:
+        if self.current:
+            self.fill = theme.ACTIVE_FIELD
+        else:
+            self.fill = theme.PANEL if self.state == "normal" else theme.TOGGLE_ON
+        self.state_colour = theme.STATE_COLOURS[self.tone]
 
     def on_release(self):
         """Go to this station."""
@@ -51,26 +74,10 @@ class ReadingRow(ButtonBehavior, BoxLayout):
             self.screen.go_to(self.station)
 
 
-class NotePopup(Popup):
-    """A note for the current station (the system keyboard is fine for words)."""
+class CodeChip(Chip):
+    """A feature-code chip of the readings screen; ``code`` is the stored code."""
 
-    screen = ObjectProperty(None)
-
-
-class HistoryPopup(Popup):
-    """Every value a station has had, oldest first: nothing entered is ever lost."""
-
-    lines = ListProperty([])
-
-    def on_pre_open(self) -> None:
-        """Fill the list with one line per version."""
-        box = self.ids.lines
-        box.clear_widgets()
-        for text in self.lines:
-            box.add_widget(Factory.HistoryLine(text=text))
-
-
-HISTORY_ACTIONS = {"add": "entered", "correct": "corrected", "remove": "removed"}
+    code = StringProperty("")
 
 
 class ReadingsScreen(KeypadScreen):
@@ -88,6 +95,78 @@ class ReadingsScreen(KeypadScreen):
     position_text = StringProperty("")
     flags = DictProperty({})
     rows = ListProperty([])
+    # what the screen shows, kept up to date by _show() (the .kv only binds to these)
+    station_text = StringProperty("—")
+    state_word = StringProperty(STATE_WORDS["none"])
+    state_colour = ColorProperty(theme.INK_SOFT)
+    entry_caption = StringProperty("")
+    entry_text = StringProperty("type digits")
+    entry_colour = ColorProperty(theme.INK_SOFT)
+    banner_text = StringProperty("")
+    banner_colour = ColorProperty(theme.INK_SOFT)
+    goto_text = StringProperty("Go to / add station")
+    goto_tone = StringProperty("plain")
+    enter_text = StringProperty("Save + next")
+    note_text = StringProperty("Note")
+    portrait = BooleanProperty(False)
+    entry_width = NumericProperty(400)
+
+    _last_saved: float | None = None
+
+    def on_kv_post(self, _base_widget) -> None:
+        """Build the feature-code chips from the service's codes; follow every shown value."""
+        box = self.ids.codes
+        for code, label in FEATURE_CODES:
+            chip = CodeChip(text=label, code=code, font_size=self.ids.note.font_size)
+            chip.bind(on_release=lambda c: self.set_code(c.code))
+            box.add_widget(chip, index=1)  # before the Note button
+        for name in ("station", "mode", "code", "note", "unit", "saved_text", "entry_state",
+                     "flags", "message", "tone", "method"):  # fmt: skip
+            self.fbind(name, self._show)
+        self.ids.keypad.fbind("text", self._show)
+        self.fbind("size", self._on_size)
+        self._show()
+
+    def _on_size(self, *_args) -> None:
+        self.portrait = self.height > self.width
+        self.entry_width = min(max(0.44 * self.width, dp(340)), dp(520))
+
+    def _show(self, *_args) -> None:
+        """Derive every shown text and colour from the screen's state."""
+        typed = self.ids.keypad.text
+        self.station_text = "—" if self.station is None else f"{self.station:g} {self.unit}"
+        self.state_word = STATE_WORDS[self.entry_state]
+        self.state_colour = theme.STATE_COLOURS[self.entry_state]
+        if self.mode == "station":
+            self.entry_caption = "Go to station"
+        elif self.saved_text and not typed:
+            self.entry_caption = "Saved reading; type to correct"
+        elif self.method == "rod":
+            self.entry_caption = "Rod reading (foresight)"
+        else:
+            self.entry_caption = "Reading down from the line"
+        if typed:
+            self.entry_text, self.entry_colour = f"{typed} {self.unit}", theme.INK
+        elif self.saved_text and self.mode == "reading":
+            self.entry_text, self.entry_colour = f"{self.saved_text} {self.unit}", theme.INK_SOFT
+        else:
+            self.entry_text, self.entry_colour = "type digits", theme.INK_SOFT
+        flag = self.flags.get(self.station, "")
+        if self.message:
+            self.banner_text, self.banner_colour = self.message, self.message_colour
+        elif flag:
+            self.banner_text, self.banner_colour = flag, theme.DANGER
+        else:
+            self.banner_text = "Readings are saved the moment you tap Save."
+            self.banner_colour = theme.INK_SOFT
+        station_mode = self.mode == "station"
+        self.goto_text = "Cancel" if station_mode else "Go to / add station"
+        self.goto_tone = "selected" if station_mode else "plain"
+        self.enter_text = "Go to station" if station_mode else "Save + next"
+        self.note_text = "Note *" if self.note else "Note"
+        for chip in self.ids.codes.children:
+            if isinstance(chip, CodeChip):
+                chip.state = "down" if chip.code == self.code else "normal"
 
     def prepare(self, station=None, **_options) -> None:
         """Open at ``station`` (or the next unread planned station)."""
@@ -98,6 +177,7 @@ class ReadingsScreen(KeypadScreen):
         self.decimals = theme.decimals_for(self.service.settings()["precision"])
         self.mode = "reading"
         self.flags = {}
+        self._last_saved = None
         self.say("", "none")
         if station is None:
             station = self.service.next_station(self.visit, None)
@@ -122,26 +202,39 @@ class ReadingsScreen(KeypadScreen):
 
     def refresh(self) -> None:
         """Reload the list, the drawing and the position line."""
-        readings = self.service.readings(self.visit)
-        plan = self.service.plan(self.visit)
-        stations = sorted({*plan, *(r["station"] for r in readings)})
-        here = stations.index(self.station) + 1 if self.station in stations else 0
-        done = len(readings)
-        self.position_text = f"{here} of {len(stations)} · {done} read"
+        position = self.service.position(self.visit, self.station)
+        self.position_text = position["text"]
         self._update_state()
+        readings = self.service.readings(self.visit)
         self.rows = [self._row(r) for r in readings]
         x, z = self.service.profile(self.visit)
         self.ids.view.water_level = self.service.water_level(self.visit)
         self.ids.view.set_section(x, z, flagged=list(self.flags), current=self.station)
         self.ids.list.data = self.rows
-        self._scroll_to_current()
+        Clock.schedule_once(lambda _dt: self._keep_row_in_view(), 0)
 
-    def _scroll_to_current(self) -> None:
-        """Keep the current station's row in view (the list scrolls, the crew does not)."""
-        index = next((i for i, row in enumerate(self.rows) if row["current"]), None)
-        if index is None or len(self.rows) < 2:
+    def _keep_row_in_view(self) -> None:
+        """Keep the row being worked on in view: the current station's, else the one saved
+        last, else the nearest before the current station (the list scrolls, not the crew)."""
+        stations = [row["station"] for row in self.rows]
+        if not stations:
             return
-        self.ids.list.scroll_y = max(0.0, min(1.0, 1.0 - index / (len(self.rows) - 1)))
+        for wanted in (self.station, self._last_saved):
+            if wanted in stations:
+                index = stations.index(wanted)
+                break
+        else:
+            before = [
+                i for i, s in enumerate(stations) if self.station is not None and s < self.station
+            ]
+            index = before[-1] if before else 0
+        view = self.ids.list
+        row = dp(56)
+        hidden = len(stations) * row - view.height
+        if hidden <= 0:
+            return
+        offset = index * row - (view.height - row) / 2  # the row in the middle of the list
+        view.scroll_y = max(0.0, min(1.0, 1.0 - offset / hidden))
 
     def _row(self, record: dict) -> dict:
         flagged = record["station"] in self.flags
@@ -149,15 +242,17 @@ class ReadingsScreen(KeypadScreen):
         code = CODE_NAMES.get(record["code"], record["code"])
         if record.get("note"):
             code = (code + " · note") if code else "note"
+        if flagged:
+            state = "FLAGGED"
+        else:
+            state = "saved, corrected" if record["action"] == "correct" else "saved"
         return {
             "station": record["station"],
             "station_text": f"{record['station']:g}",
             "reading_text": f"{record['reading']:.{self.decimals}f}",
             "elevation_text": "" if elevation is None else f"{elevation:.{self.decimals}f}",
             "code_text": code,
-            "state_text": "FLAGGED"
-            if flagged
-            else ("saved, corrected" if record["action"] == "correct" else "saved"),
+            "state_text": state,
             "tone": "flagged" if flagged else "saved",
             "current": record["station"] == self.station,
             "screen": self,
@@ -175,20 +270,9 @@ class ReadingsScreen(KeypadScreen):
 
     def step(self, direction: int) -> None:
         """Go to the previous (-1) or next (+1) station of the plan and readings."""
-        stations = sorted(
-            {
-                *self.service.plan(self.visit),
-                *(r["station"] for r in self.service.readings(self.visit)),
-            }
-        )
-        if not stations:
-            return
-        if self.station in stations:
-            index = max(0, min(len(stations) - 1, stations.index(self.station) + direction))
-        else:
-            later = [s for s in stations if s > self.station]
-            index = stations.index(later[0]) if later and direction > 0 else len(stations) - 1
-        self.go_to(stations[index])
+        after = self.service.step_station(self.visit, self.station, direction)
+        if after is not None:
+            self.go_to(after)
 
     def start_station_entry(self) -> None:
         """Switch the keypad to typing a station to go to (edit or insert)."""
@@ -204,14 +288,11 @@ class ReadingsScreen(KeypadScreen):
         self._update_state()
 
     def on_key(self, key: int, codepoint: str | None) -> bool:
-        """Laptop keys: digits, point, Backspace, Enter; Up/Down move between stations."""
-        if self._text_input_focused():
-            return False
-        if key in (273, 274):  # arrow up / down
-            self.step(-1 if key == 273 else 1)
+        """Laptop keys (no text field has the keyboard): digits, point, Backspace, Enter type
+        the reading; Up/Down move between stations."""
+        if key in (KEY_UP, KEY_DOWN):
+            self.step(-1 if key == KEY_UP else 1)
             return True
-        from stakeline.app.widgets.keypad import key_action
-
         action = key_action(key, codepoint)
         if action is None:
             return False
@@ -223,8 +304,8 @@ class ReadingsScreen(KeypadScreen):
         text = self.ids.keypad.text
         if self.mode == "station":
             if text:
-                station = self.attempt(float, text)
-                if station is not None and station >= 0:
+                station = self.attempt(self.service.station_to_visit, text)
+                if station is not None:
                     self.go_to(station)
                     self.say(f"At station {station:g} {self.unit}: type its reading.", "none")
             self.mode = "reading"
@@ -237,22 +318,19 @@ class ReadingsScreen(KeypadScreen):
         )
         if record is None:
             return
-        saved_at = self.station
-        self.say(
-            f"Saved {record['reading']:.{self.decimals}f} {self.unit} at station "
-            f"{saved_at:g} {self.unit}.",
-            "saved",
-        )
+        saved_at = self._last_saved = self.station
+        value = f"{record['reading']:.{self.decimals}f} {self.unit}"
         after = self.service.next_station(self.visit, saved_at)
         if after is None:
             self.go_to(saved_at)
             self.say(
-                f"Saved {record['reading']:.{self.decimals}f} {self.unit} at {saved_at:g} "
-                f"{self.unit}. Every planned station is read: add stations or go to Section.",
+                f"Saved {value} at {saved_at:g} {self.unit}. Every planned station is read: add "
+                "stations or go to Section.",
                 "saved",
             )
         else:
             self.go_to(after)
+            self.say(f"Saved {value} at station {saved_at:g} {self.unit}.", "saved")
         self.request_review()
 
     def set_code(self, code: str) -> None:
@@ -266,8 +344,8 @@ class ReadingsScreen(KeypadScreen):
             self.refresh()
 
     def open_note(self) -> None:
-        """Open the note editor for the current station."""
-        popup = NotePopup(screen=self)
+        """Open the note editor for the current station (its text box takes the keyboard)."""
+        popup = NotePopup(screen=self, title=f"Note for station {self.station:g} {self.unit}")
         popup.ids.text.text = self.note
         popup.open()
 
@@ -306,8 +384,8 @@ class ReadingsScreen(KeypadScreen):
         if undone is None:
             self.say("Nothing to undo.", "none")
             return
-        self.say(f"Undone: the last change at station {undone['station']:g}.", "unsaved")
         self.go_to(undone["station"])
+        self.say(f"Undone: the last change at station {undone['station']:g}.", "unsaved")
         self.request_review()
 
     def remove(self) -> None:
@@ -322,16 +400,14 @@ class ReadingsScreen(KeypadScreen):
 
     # --- checks -------------------------------------------------------------------------------
     def request_review(self) -> None:
-        """Run the field checks off the UI thread; flagged stations are marked when done."""
-        self.service.review_async(self.visit, self._on_review, self._on_review_error)
+        """Run the field checks off the UI thread; flagged stations are marked when done (a
+        result overtaken by a newer request is dropped)."""
+        self.service.review_async(
+            self.visit, self._on_review, self._on_review_error, key="readings"
+        )
 
     def _on_review(self, findings: list[dict]) -> None:
-        flags = {}
-        for finding in findings:
-            if finding["station"] is not None and finding["severity"] in ("block", "warn"):
-                if finding["kind"] in ("spike", "duplicate", "order", "line"):
-                    flags.setdefault(finding["station"], finding["message"])
-        self.flags = flags
+        self.flags = self.service.flagged_stations(findings)
         if self.manager is not None and self.manager.current == self.name:
             self.refresh()
 

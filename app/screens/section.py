@@ -1,17 +1,26 @@
 """Section: the surveyed ground drawn live with the water filled at the level being typed or
-dragged, its wetted figures, the wading-safety caution and the field-estimate note."""
+dragged, its wetted figures (each name beside its own value), the wading-safety caution and the
+field-estimate note.
+
+Only a level the crew records here (the keypad's Record level) reaches the visit: a typed or
+dragged level moves the water and the figures on this screen and nothing else -- the office
+figures always open at the visit's recorded level.
+"""
 
 from __future__ import annotations
 
-from kivy.properties import DictProperty, ObjectProperty, StringProperty
-from stakeline.app import kv, theme
+from kivy.metrics import dp
+from kivy.properties import (
+    BooleanProperty,
+    DictProperty,
+    ListProperty,
+    NumericProperty,
+    ObjectProperty,
+    StringProperty,
+)
 from stakeline.app.screens.base import KeypadScreen
-from stakeline.app.service import FIGURE_NAMES, parse_number
-from stakeline.app.widgets import section_view  # noqa: F401  (registers SectionView for the .kv)
-
-kv.load("screens/section.kv")
-
-AREA_FIGURES = {"area"}
+from stakeline.app.service import parse_number
+from stakeline.app.widgets.common import FigureRow
 
 
 class SectionScreen(KeypadScreen):
@@ -22,6 +31,23 @@ class SectionScreen(KeypadScreen):
     figures = DictProperty({})
     figure_text = StringProperty("")
     value_text = StringProperty("")
+    figure_rows = ListProperty([])
+    """(name, value) of every figure shown, in order."""
+    error_text = StringProperty("")
+    hint_text = StringProperty("")
+    portrait = BooleanProperty(False)
+    side_width = NumericProperty(400)
+
+    _section = None
+    _profile = ((), ())
+
+    def on_kv_post(self, _base_widget) -> None:
+        """Follow the window's shape."""
+        self.fbind("size", self._on_size)
+
+    def _on_size(self, *_args) -> None:
+        self.portrait = self.height > self.width
+        self.side_width = min(max(0.4 * self.width, dp(340)), dp(520))
 
     def refresh(self) -> None:
         """Load the ground and the recorded water level."""
@@ -32,7 +58,7 @@ class SectionScreen(KeypadScreen):
         self._profile = self.service.profile(self.visit)
         self.ids.view.level_step = max(float(self.service.settings()["precision"]), 0.001)
         self.ids.view.set_section(*self._profile, refit=True)
-        self.service.review_async(self.visit, self._show_flags)
+        self.service.review_async(self.visit, self._show_flags, key="section")
         recorded = self.service.water_level(self.visit)
         self.activate(self.ids.level_field)
         self.ids.level_field.text = "" if recorded is None else f"{recorded:.3f}"
@@ -42,15 +68,11 @@ class SectionScreen(KeypadScreen):
         if recorded is not None:
             self.say(f"Recorded water level {recorded:.3f} {self.unit}.", "saved")
         else:
-            self.say("Type the water level (elevation) or drag the blue line.", "none")
+            self.say("Type the water level (elevation), then Record level.", "none")
 
     def _show_flags(self, findings: list[dict]) -> None:
         """Mark the stations the checks flag (spikes, repeats) on the drawing."""
-        flagged = [
-            f["station"]
-            for f in findings
-            if f["station"] is not None and f["kind"] in ("spike", "duplicate", "order", "line")
-        ]
+        flagged = list(self.service.flagged_stations(findings))
         self.ids.view.set_section(*self._profile, flagged=flagged)
 
     def on_field_edited(self, field) -> None:
@@ -72,17 +94,34 @@ class SectionScreen(KeypadScreen):
         if view.water_level != self.level:
             view.water_level = self.level
         self.figures = self.service.figures(self._section, self.level)
-        self.figure_text, self.value_text = self._figure_lines()
+        rows = self.service.figure_rows(self.figures, self.unit)
+        self.figure_rows = rows
+        self.error_text = self.figures.get("error", "")
+        self.figure_text = self.error_text or "\n".join(name for name, _ in rows)
+        self.value_text = "\n".join(value for _, value in rows)
+        if self.level is None:
+            self.hint_text = "Type the water level on the keypad to see the water and its figures."
+        else:
+            self.hint_text = (
+                "Looking downstream. Drag the blue line to try a level (Record level keeps it); "
+                "pinch, wheel or drag to zoom and pan; double-tap to fit."
+            )
+        self._place_rows()
 
-    def _figure_lines(self) -> tuple[str, str]:
-        if "error" in self.figures:
-            return self.figures["error"], ""
-        names, values = [], []
-        for key, name in FIGURE_NAMES.items():
-            unit = f"{self.unit}²" if key in AREA_FIGURES else self.unit
-            names.append(name)
-            values.append(f"{self.figures[key]:.3f} {unit}")
-        return "\n".join(names), "\n".join(values)
+    def _place_rows(self) -> None:
+        """One :class:`FigureRow` per figure, reused while the figures stay the same."""
+        box = self.ids.figure_box
+        shown = list(reversed(box.children))
+        if len(shown) != len(self.figure_rows):
+            box.clear_widgets()
+            shown = []
+            for _ in self.figure_rows:
+                row = FigureRow()
+                box.add_widget(row)
+                shown.append(row)
+        for row, (name, value) in zip(shown, self.figure_rows, strict=True):
+            row.name, row.value = name, value
+            row.dump_key = f"figure:{name}"
 
     def on_dragged(self) -> None:
         """The crew dragged the water line: show the level in the field (unsaved)."""
@@ -103,9 +142,6 @@ class SectionScreen(KeypadScreen):
             self.say(f"Recorded water level {level:.3f} {self.unit}.", "saved")
 
     def open_detail(self) -> None:
-        """Show the office figures at the level shown here (Back returns to this screen)."""
-        self.app.go("detail", back="section", level=self.level)
-
-    def error_colour(self):
-        """Colour of the figures text (red when the level cannot be used)."""
-        return theme.DANGER if "error" in self.figures else theme.INK
+        """Show the office figures at the visit's recorded level (Back returns here).  A level
+        typed or dragged here and not recorded stays here."""
+        self.app.go("detail", back="section")

@@ -1,15 +1,18 @@
 """Spacing: the distance between stakes and a target count give a uniform plan (shown as a
-station list); stations can be added or removed one by one for variable spacing."""
+station list); stations can be added or removed one by one for variable spacing.  On a repeat
+visit the previous visit's plan is offered (never taken silently).
+
+The plan's rules (no negative stations, read stations stay) are the service's: this screen
+shows the plan being edited and asks the service for every change.
+"""
 
 from __future__ import annotations
 
-from kivy.properties import ListProperty, NumericProperty, StringProperty
-from stakeline.app import kv
+from kivy.metrics import dp
+from kivy.properties import BooleanProperty, ListProperty, NumericProperty, StringProperty
 from stakeline.app.screens.base import KeypadScreen, field_number, show_number
-from stakeline.app.service import ServiceError, uniform_stations
+from stakeline.app.service import count_words
 from stakeline.app.widgets.common import Chip
-
-kv.load("screens/spacing.kv")
 
 
 class SpacingScreen(KeypadScreen):
@@ -21,9 +24,21 @@ class SpacingScreen(KeypadScreen):
     selected = NumericProperty(-1.0)
     spacing_text = StringProperty("")
     saved_plan = ListProperty([])
+    previous_plan = ListProperty([])
+    previous_text = StringProperty("")
+    portrait = BooleanProperty(False)
+    side_width = NumericProperty(380)
+
+    def on_kv_post(self, _base_widget) -> None:
+        """Follow the window's shape."""
+        self.fbind("size", self._on_size)
+
+    def _on_size(self, *_args) -> None:
+        self.portrait = self.height > self.width
+        self.side_width = min(max(0.38 * self.width, dp(330)), dp(480))
 
     def refresh(self) -> None:
-        """Load the saved plan and the stake distance."""
+        """Load the saved plan, the stake distance and the previous visit's plan."""
         visit = self.service.visit(self.visit)
         self.unit = visit["unit"]
         self.ids.distance.text = show_number(visit["stake_distance"], 2)
@@ -32,11 +47,16 @@ class SpacingScreen(KeypadScreen):
         self.stations = list(self.saved_plan)
         self.selected = -1.0
         self.spacing_text = ""
+        offer = self.service.previous_plan(self.visit) if not self.saved_plan else None
+        self.previous_plan = offer["stations"] if offer else []
+        self.previous_text = offer["text"] if offer else ""
         if not self.ids.count.text:
             self.ids.count.text = "21"
         self.activate(self.ids.distance if not self.ids.distance.text else self.ids.count)
         if self.saved_plan:
-            self.say(f"Saved plan: {len(self.saved_plan)} stations.", "saved")
+            self.say(f"Saved plan: {count_words(len(self.saved_plan))}.", "saved")
+        elif offer:
+            self.say("No plan yet: use the last visit's plan, or suggest a new one.", "none")
         else:
             self.say("No plan yet: type the distance and a station count, then Suggest.", "none")
 
@@ -46,43 +66,35 @@ class SpacingScreen(KeypadScreen):
         box.clear_widgets()
         for station in self.stations:
             chip = Chip(
-                text=f"{station:g}",
+                text=f"{station:g}" + (" *" if station in self.read else ""),
                 size_hint=(None, None),
-                width=self._chip_width(),
+                width=dp(104),
                 state="down" if station == self.selected else "normal",
             )
-            if station in self.read:
-                chip.text += " *"
             chip.bind(on_release=lambda _c, s=station: self.select(s))
             box.add_widget(chip)
 
-    def _chip_width(self) -> float:
-        from kivy.metrics import dp
-
-        return dp(104)
-
     def select(self, station: float) -> None:
-        """Select a planned station (for Remove); the keypad shows its distance."""
+        """Select a planned station (for Remove)."""
         self.selected = station if self.selected != station else -1.0
         self.on_stations()
 
-    def on_field_edited(self, _field) -> None:
-        """Typing the distance or count re-suggests nothing until Suggest is tapped."""
+    def use_previous(self) -> None:
+        """Take the previous visit's plan (not saved until Use this plan)."""
+        self.stations = self.service.merge_plan(self.previous_plan, self.read)
+        self.say(
+            f"The last visit's {count_words(len(self.stations))}. Not saved yet: "
+            "tap Use this plan.",
+            "unsaved",
+        )
 
     def suggest(self) -> None:
         """Uniform plan from the distance and count (not saved until Use this plan)."""
-        try:
-            distance = field_number(self.ids.distance)
-            count = field_number(self.ids.count)
-            if distance is None or count is None:
-                raise ServiceError("type the distance between stakes and a station count")
-            plan = uniform_stations(distance, int(count))
-        except ServiceError as exc:
-            self.say(str(exc), "flagged")
+        plan = self.attempt(self.service.suggest_plan, self.ids.distance.text, self.ids.count.text)
+        if plan is None:
             return
-        self.stations = plan
-        step = plan[1] - plan[0]
-        self.spacing_text = f"Spacing {step:g} {self.unit}, {len(plan)} stations"
+        self.stations = plan["stations"]
+        self.spacing_text = plan["text"]
         self.say(f"Suggested: {self.spacing_text}. Not saved yet: tap Use this plan.", "unsaved")
 
     def add_station(self) -> None:
@@ -90,10 +102,10 @@ class SpacingScreen(KeypadScreen):
         station = self.attempt(field_number, self.ids.extra)
         if station is None:
             return
-        if station < 0:
-            self.say("stations are tape distances and cannot be negative", "flagged")
+        stations = self.attempt(self.service.plan_with, self.stations, station)
+        if stations is None:
             return
-        self.stations = sorted({*self.stations, round(station, 6)})
+        self.stations = stations
         self.ids.extra.text = ""
         self.say(f"Added {station:g} {self.unit}. Not saved yet: tap Use this plan.", "unsaved")
 
@@ -102,10 +114,10 @@ class SpacingScreen(KeypadScreen):
         if self.selected < 0:
             self.say("Tap a station in the list first, then Remove.", "unsaved")
             return
-        if self.selected in self.read:
-            self.say(f"Station {self.selected:g} has a reading; it stays in the plan.", "flagged")
+        stations = self.attempt(self.service.plan_without, self.visit, self.stations, self.selected)
+        if stations is None:
             return
-        self.stations = [s for s in self.stations if s != self.selected]
+        self.stations = stations
         self.selected = -1.0
         self.say("Removed. Not saved yet: tap Use this plan.", "unsaved")
 
@@ -119,7 +131,8 @@ class SpacingScreen(KeypadScreen):
             self.attempt(self.service.save_stakes, self.visit, stake_distance=distance)
         self.saved_plan = plan
         self.stations = plan
-        self.say(f"Saved plan: {len(plan)} stations.", "saved")
+        self.previous_plan, self.previous_text = [], ""
+        self.say(f"Saved plan: {count_words(len(plan))}.", "saved")
         return True
 
     def use_and_read(self) -> None:

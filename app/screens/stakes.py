@@ -1,15 +1,16 @@
 """Stakes (datum): stake names, tape origin, benchmark, line elevations, line-level check,
-distance between the stakes and optional stake coordinates."""
+distance between the stakes and optional stake coordinates (latitude, then longitude).
+
+Line heights are never carried over from the last visit -- the crew measures them again -- but
+last visit's values show as hints in the empty fields.
+"""
 
 from __future__ import annotations
 
-from kivy.properties import StringProperty
-from stakeline.app import kv
+from kivy.metrics import dp
+from kivy.properties import BooleanProperty, NumericProperty, StringProperty
 from stakeline.app.screens.base import KeypadScreen, field_number, show_number
-from stakeline.app.service import ServiceError
-from stakeline.survey.reduction import ASSUMED_DATUM
-
-kv.load("screens/stakes.kv")
+from stakeline.app.service import ASSUMED_DATUM
 
 NUMBER_FIELDS = (
     "benchmark_elevation",
@@ -19,7 +20,9 @@ NUMBER_FIELDS = (
     "stake_distance",
     "backsight",
 )
-COORDINATE_FIELDS = ("left_lon", "left_lat", "right_lon", "right_lat")
+COORDINATE_FIELDS = ("left_lat", "left_lon", "right_lat", "right_lon")
+HINTED = ("line_left", "line_right", "line_check", "stake_distance", "backsight")
+"""Fields that show last visit's value as a hint while empty."""
 
 
 class StakesScreen(KeypadScreen):
@@ -29,6 +32,19 @@ class StakesScreen(KeypadScreen):
     origin = StringProperty("left")
     method = StringProperty("line")
     section_title = StringProperty("")
+    portrait = BooleanProperty(False)
+    side_width = NumericProperty(380)
+    form_cols = NumericProperty(2)
+
+    def on_kv_post(self, _base_widget) -> None:
+        """Follow the window's shape."""
+        self.fbind("size", self._on_size)
+
+    def _on_size(self, *_args) -> None:
+        self.portrait = self.height > self.width
+        self.side_width = min(max(0.38 * self.width, dp(330)), dp(480))
+        form_width = self.width if self.portrait else self.width - self.side_width
+        self.form_cols = 2 if form_width >= dp(470) else 1
 
     def refresh(self) -> None:
         """Fill the form from the store."""
@@ -43,12 +59,24 @@ class StakesScreen(KeypadScreen):
         ids.benchmark_name.text = data["benchmark_name"] or ""
         for name in NUMBER_FIELDS:
             ids[name].text = show_number(data[name])
+        previous = data.get("previous") or {}
+        for name in HINTED:
+            value = previous.get(name)
+            ids[name].hint = "" if value is None else f"last visit {value:.3f}"
+        ids.line_check.hint = ids.line_check.hint or "optional"
+        ids.backsight.hint = ids.backsight.hint or "rod method only"
         for side in ("left", "right"):
-            point = data[f"{side}_coordinates"]
-            ids[f"{side}_lon"].text = show_number(point[0] if point else None, 6)
+            point = data[f"{side}_coordinates"]  # (longitude, latitude)
             ids[f"{side}_lat"].text = show_number(point[1] if point else None, 6)
+            ids[f"{side}_lon"].text = show_number(point[0] if point else None, 6)
         self.activate(ids.line_left)
-        self.say(self.service.line_check(self.visit).text, "none")
+        self.show_verdict(self.service.line_check(self.visit))
+
+    def show_verdict(self, verdict, saved: bool = False) -> None:
+        """Show the line check (a :class:`stakeline.survey.datum.LineVerdict` from the service:
+        ``within`` is False outside the tolerance, None when there is nothing to judge)."""
+        tone = "flagged" if verdict.within is False else ("saved" if saved else "none")
+        self.say(("Saved. " if saved else "") + verdict.text, tone)
 
     def on_field_edited(self, _field) -> None:
         """Typing makes the form unsaved."""
@@ -71,14 +99,18 @@ class StakesScreen(KeypadScreen):
         self.on_field_edited(None)
 
     def next_field(self) -> None:
-        """Keypad enter: move to the next number field."""
+        """Keypad enter: move to the next number field (scrolled into view); after the last
+        one, save."""
         order = [*NUMBER_FIELDS, *COORDINATE_FIELDS]
         names = [n for n in order if self.ids[n] is self.active_field]
         position = order.index(names[0]) if names else -1
-        self.activate(self.ids[order[(position + 1) % len(order)]])
+        if position == len(order) - 1:
+            self.save()
+            return
+        self.activate(self.ids[order[position + 1]])
 
     def collect(self) -> dict:
-        """The form as store fields (ServiceError names the field that is not a number)."""
+        """The form as store fields (ServiceError names the field that is wrong)."""
         ids = self.ids
         fields = {name: field_number(ids[name]) for name in NUMBER_FIELDS}
         fields.update(
@@ -89,12 +121,9 @@ class StakesScreen(KeypadScreen):
             method=self.method,
         )
         for side in ("left", "right"):
-            lon, lat = field_number(ids[f"{side}_lon"]), field_number(ids[f"{side}_lat"])
-            if (lon is None) != (lat is None):
-                raise ServiceError(f"{side} stake: type both longitude and latitude, or neither")
-            if lon is not None and not (-180 <= lon <= 180 and -90 <= lat <= 90):
-                raise ServiceError(f"{side} stake: longitude or latitude out of range")
-            fields[f"{side}_coordinates"] = None if lon is None else (lon, lat)
+            fields[f"{side}_coordinates"] = self.service.stake_coordinates(
+                side, ids[f"{side}_lat"].text, ids[f"{side}_lon"].text
+            )
         return fields
 
     def save(self) -> bool:
@@ -105,7 +134,7 @@ class StakesScreen(KeypadScreen):
         verdict = self.attempt(self.service.save_stakes, self.visit, **fields)
         if verdict is None:
             return False
-        self.say("Saved. " + verdict.text, "flagged" if verdict.within is False else "saved")
+        self.show_verdict(verdict, saved=True)
         return True
 
     def save_and_continue(self) -> None:

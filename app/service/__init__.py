@@ -14,17 +14,22 @@ from datetime import date
 
 import numpy as np
 from stakeline.app.service.checks import META_KEYS, FieldChecks  # noqa: F401  (META_KEYS re-exported)
+from stakeline.app.service.finishing import POSITION_KEY, Finishing
 from stakeline.app.service.office import OfficeFigures
+from stakeline.app.service.plans import StationPlans
 from stakeline.app.service.settings import (  # noqa: F401  (re-exported)
     DEFAULT_SETTINGS,
     PLUS_MINUS_KEYS,
     DeviceSettings,
+    default_outbox,
 )
 from stakeline.app.service.util import (  # noqa: F401  (re-exported for the screens)
     ServiceError,
     Worker,
+    count_words,
     next_station,
     parse_number,
+    short_path,
     uniform_stations,
 )
 from stakeline.errors import SurveyError
@@ -32,23 +37,28 @@ from stakeline.survey.codes import CHIPS
 from stakeline.survey.datum import Datum
 from stakeline.survey.figures import figure_title
 from stakeline.survey.geometry import FIGURES, Section
+from stakeline.survey.reduction import ASSUMED_DATUM  # noqa: F401  (re-exported for the screens)
 
 FEATURE_CODES = tuple(CHIPS)
 """Quick feature codes on the readings screen: (stored code, button text), from
 :data:`stakeline.survey.codes.CHIPS`."""
 
-POSITION_KEY = "field.position"
-"""Setting that remembers the open visit and the station being read, for resuming after a crash."""
+def is_demo(visit: dict) -> bool:
+    """True for a visit of the invented demo survey (marked so in its settings by
+    :meth:`stakeline.store.Store.load_demo`): the app never sends it to the office."""
+    return bool((visit.get("settings") or {}).get("demo"))
 
 
-class FieldService(DeviceSettings, FieldChecks, OfficeFigures):
+class FieldService(DeviceSettings, FieldChecks, OfficeFigures, StationPlans, Finishing):
     """Everything the screens do with a visit, on one open store (the device settings come from
     :class:`stakeline.app.service.settings.DeviceSettings`, the field checks from
-    :class:`stakeline.app.service.checks.FieldChecks`, the office figures of the section-detail screen from
-    :class:`stakeline.app.service.office.OfficeFigures`).
+    :class:`stakeline.app.service.checks.FieldChecks`, the office figures of the section-detail
+    screen from :class:`stakeline.app.service.office.OfficeFigures`, the station plans from
+    :class:`stakeline.app.service.plans.StationPlans`, finishing and packing from
+    :class:`stakeline.app.service.finishing.Finishing`).
 
-    ``store`` is an open :class:`stakeline.store.Store`; ``outbox`` the folder finished packages go to
-    when the settings do not name one.
+    ``store`` is an open :class:`stakeline.store.Store`; ``outbox`` the folder finished packages
+    go to when the settings do not name one.
     """
 
     def __init__(self, store, outbox: str = ""):
@@ -70,21 +80,20 @@ class FieldService(DeviceSettings, FieldChecks, OfficeFigures):
         """Close the store (checkpointing its journal)."""
         self.store.close()
 
-    def outbox(self) -> str:
-        """Folder for finished visit packages (created when first used)."""
-        return self.settings()["outbox"] or self.default_outbox
-
     # --- home -------------------------------------------------------------------------------
     def overview(self) -> list[dict]:
         """Sections with their site, last visit date and status, the open visit if any, and the
         latest finished visit (``finished_visit``, for its office figures) if any."""
         open_visits: dict[str, str] = {}
         finished: dict[str, str] = {}  # section -> its latest finished visit with a ground line
+        real: set[str] = set()  # sections with a visit that is not demo data
         for visit in self.store.visits():
             if not visit["finished"]:
                 open_visits[visit["section_uuid"]] = visit["uuid"]
             elif visit["station_count"] >= 2:
                 finished[visit["section_uuid"]] = visit["uuid"]
+            if not is_demo(visit):
+                real.add(visit["section_uuid"])
         rows = []
         for section in self.store.sections():
             rows.append(
@@ -96,9 +105,16 @@ class FieldService(DeviceSettings, FieldChecks, OfficeFigures):
                     "last_status": section.get("last_visit_status") or "",
                     "open_visit": open_visits.get(section["uuid"]),
                     "finished_visit": finished.get(section["uuid"]),
+                    "demo": bool(section.get("last_visit_date")) and section["uuid"] not in real,
                 }
             )
         return rows
+
+    def last_site(self) -> str:
+        """The site of the crew's latest visit (demo data aside), to offer for a new section;
+        "" when there is none."""
+        visits = [v for v in self.store.visits() if not is_demo(v)]
+        return max(visits, key=lambda v: (v["date"], v["created"]))["site"] if visits else ""
 
     def create_section(self, site_name: str, section_name: str) -> dict:
         """A new section on the named site (created when new); returns the section dict."""
@@ -113,25 +129,20 @@ class FieldService(DeviceSettings, FieldChecks, OfficeFigures):
     def start_visit(self, section_uuid: str, today: str | None = None) -> str:
         """Open a new visit on a section with the device's unit and crew; returns its uuid.
 
-        Line heights and stake distance are carried over from the section's last visit (same
-        stakes, same benchmark); the crew checks them on the stakes screen.
+        The stake distance is carried over from the section's last visit (same stakes); the
+        line heights are not -- the crew measures them again, and the stakes screen shows last
+        visit's values only as hints (:meth:`stakes`).  The last visit's station plan is offered
+        on the spacing screen (:meth:`previous_plan`), never taken silently.
         """
         settings = self.settings()
         earlier = self.store.visits(section_uuid)
-        carried = {}
-        if earlier:
-            last = earlier[-1]
-            carried = {k: last[k] for k in ("line_left", "line_right", "stake_distance")}
         visit = self.store.start_visit(
             section_uuid,
             today or date.today().isoformat(),
             crew=tuple(settings["crew"]),
             unit=earlier[-1]["unit"] if earlier else settings["unit"],
-            line_left=carried.get("line_left"),
-            line_right=carried.get("line_right"),
+            stake_distance=earlier[-1]["stake_distance"] if earlier else None,
         )
-        if carried.get("stake_distance") is not None:
-            self.store.update_visit(visit["uuid"], stake_distance=carried["stake_distance"])
         self.remember_position(visit["uuid"], None)
         return visit["uuid"]
 
@@ -175,7 +186,39 @@ class FieldService(DeviceSettings, FieldChecks, OfficeFigures):
         out["left_coordinates"] = section["left_coordinates"]
         out["right_coordinates"] = section["right_coordinates"]
         out["section"], out["site"] = section["name"], section["site"]
+        out["previous"] = self._previous_datum(visit)
         return out
+
+    def _previous_datum(self, visit: dict) -> dict:
+        """Line heights, check shot, stake distance and backsight of the section's visit before
+        ``visit`` (same unit), shown as hints; {} when there is none."""
+        earlier = [
+            v
+            for v in self.store.visits(visit["section_uuid"])
+            if v["uuid"] != visit["uuid"] and v["unit"] == visit["unit"]
+            and v["date"] <= visit["date"]
+        ]  # fmt: skip
+        if not earlier:
+            return {}
+        keys = ("line_left", "line_right", "line_check", "stake_distance", "backsight")
+        return {key: earlier[-1][key] for key in keys}
+
+    @staticmethod
+    def stake_coordinates(side: str, latitude: str, longitude: str) -> tuple | None:
+        """A stake's position from the typed latitude and longitude (decimal degrees) as stored
+        (longitude, latitude); None when both are empty; ServiceError naming what is wrong."""
+        latitude, longitude = str(latitude).strip(), str(longitude).strip()
+        if not latitude and not longitude:
+            return None
+        if not latitude or not longitude:
+            raise ServiceError(f"{side} stake: type both latitude and longitude, or neither")
+        lat = parse_number(latitude, f"{side} stake latitude")
+        lon = parse_number(longitude, f"{side} stake longitude")
+        if not -90 <= lat <= 90:
+            raise ServiceError(f"{side} stake latitude {lat:g} is out of range (-90 to 90)")
+        if not -180 <= lon <= 180:
+            raise ServiceError(f"{side} stake longitude {lon:g} is out of range (-180 to 180)")
+        return (lon, lat)
 
     def save_stakes(self, visit_uuid: str, **fields):
         """Save the stakes screen; returns the line-level check verdict (see :meth:`line_check`)."""
@@ -209,29 +252,6 @@ class FieldService(DeviceSettings, FieldChecks, OfficeFigures):
         visit = self.store.visit(visit_uuid)
         tolerance = self.check_settings(visit["unit"]).line_tolerance
         return Datum.from_visit(visit).line_check(visit["line_check"], tolerance=tolerance)
-
-    # --- spacing ----------------------------------------------------------------------------
-    def plan(self, visit_uuid: str) -> list[float]:
-        """The planned stations of a visit (survey unit), in order."""
-        return sorted(self.store.planned_stations(visit_uuid))
-
-    def save_plan(self, visit_uuid: str, stations) -> list[float]:
-        """Replace the plan with these stations (duplicates dropped, sorted); returns it."""
-        plan = sorted({round(float(s), 6) for s in stations})
-        if any(s < 0 for s in plan):
-            raise ServiceError("stations are tape distances and cannot be negative")
-        self.store.set_planned_stations(visit_uuid, plan)
-        return plan
-
-    def add_to_plan(self, visit_uuid: str, station: float) -> list[float]:
-        """Insert one station into the plan (a slope break, a water's edge...); returns the plan."""
-        return self.save_plan(visit_uuid, [*self.plan(visit_uuid), station])
-
-    def remove_from_plan(self, visit_uuid: str, station: float) -> list[float]:
-        """Drop one planned station that has no reading yet; returns the plan."""
-        if any(r["station"] == station for r in self.readings(visit_uuid)):
-            raise ServiceError(f"station {station:g} has a reading; remove the reading first")
-        return self.save_plan(visit_uuid, [s for s in self.plan(visit_uuid) if s != station])
 
     # --- readings ---------------------------------------------------------------------------
     def readings(self, visit_uuid: str) -> list[dict]:
@@ -306,11 +326,6 @@ class FieldService(DeviceSettings, FieldChecks, OfficeFigures):
         self._changed()
         return self.store.undo(visit_uuid)
 
-    def next_station(self, visit_uuid: str, current: float | None) -> float | None:
-        """The station to read after ``current`` (see :func:`next_station`)."""
-        read = {r["station"] for r in self.readings(visit_uuid)}
-        return next_station(self.plan(visit_uuid), read, current)
-
     # --- the section and its figures --------------------------------------------------------
     def profile(self, visit_uuid: str) -> tuple[np.ndarray, np.ndarray]:
         """Stations and ground elevations of the readings that have an elevation (survey unit)."""
@@ -334,11 +349,35 @@ class FieldService(DeviceSettings, FieldChecks, OfficeFigures):
         if section is None:
             return {"error": "Read at least two stations to see the figures."}
         if level is None:
-            return {"error": "Type or drag the water level to see the figures."}
+            return {"error": "Type the water level to see the figures."}
         try:
             return section.at(float(level)).as_dict()
         except SurveyError as exc:
             return {"error": str(exc)}
+
+    @staticmethod
+    def figure_rows(figures: dict, unit: str) -> list[tuple[str, str]]:
+        """(name, value with unit) of each wetted figure of :meth:`figures`, in order; [] when
+        they could not be computed."""
+        if "error" in figures:
+            return []
+        return [
+            (
+                name,
+                f"{figures[key]:.3f} {unit}²"
+                if key in AREA_FIGURES
+                else f"{figures[key]:.3f} {unit}",
+            )
+            for key, name in FIGURE_NAMES.items()
+        ]
+
+    def review_async(self, visit_uuid: str, on_done, on_error=None, key=None) -> None:
+        """The field checks on the worker thread (:meth:`FieldChecks.review_async`); with a
+        ``key`` (the screen asking), a result overtaken by a newer request is dropped."""
+        if key is not None:
+            guard = self.worker.request(key)
+            on_done, on_error = guard(on_done), guard(on_error)
+        super().review_async(visit_uuid, on_done, on_error)
 
     def water_level(self, visit_uuid: str) -> float | None:
         """The visit's water level (survey unit): the mean of the levels recorded on it
@@ -353,67 +392,22 @@ class FieldService(DeviceSettings, FieldChecks, OfficeFigures):
         self.store.add_water_level(visit_uuid, level)
         return level
 
-    # --- finishing --------------------------------------------------------------------------
-    def finish(self, visit_uuid: str, findings: list[dict], reason: str = "") -> dict:
-        """Finish the visit: blocking findings need a written ``reason`` (stored as overrides).
-        Returns the finished visit record."""
-        blocking = self.blocking(findings)
-        if blocking and not reason.strip():
-            raise ServiceError(
-                f"{len(blocking)} blocking finding(s) remain: fix them, or write why the visit "
-                "can be finished anyway"
-            )
-        self._changed()
-        with self.store.transaction():  # the overrides and the finish land together or not at all
-            for finding in blocking:
-                self.store.add_override(
-                    visit_uuid, finding["kind"], finding["station"], reason.strip()
-                )
-            finished = self.store.finish_visit(visit_uuid)
-        position = self.store.get_setting(POSITION_KEY) or {}
-        if position.get("visit") == visit_uuid:
-            self.store.set_setting(POSITION_KEY, None)
-        return finished
-
-    def write_package(self, visit_uuid: str, outbox: str | None = None) -> str:
-        """Write the finished visits' packages to the outbox; returns this visit's file path.
-
-        With ``outbox`` given it uses its own connection to the store file, so it may run on the
-        worker thread.
-        """
-        from stakeline.store import Store
-        from stakeline.store.package import pack_visits
-
-        outbox = self.outbox() if outbox is None else outbox
-        if self.store.path:
-            with Store.open(self.store.path, device_id=self.store.device_id) as own:
-                results = pack_visits(own, outbox)
-        else:
-            results = pack_visits(self.store, outbox)
-        paths = [r["path"] for r in results if r["visit"] == visit_uuid]
-        if not paths:
-            raise ServiceError("the visit is not finished, so no package was written")
-        return paths[0]
-
-    def write_package_async(self, visit_uuid: str, on_done, on_error=None) -> None:
-        """:meth:`write_package` on the worker thread (a file store) or at once (in memory)."""
-        if self.store.path:
-            outbox = self.outbox()
-            self.worker.run(lambda: self.write_package(visit_uuid, outbox), on_done, on_error)
-        else:
-            on_done(self.write_package(visit_uuid))
-
 
 FIGURE_NAMES = {key: figure_title(key) for key in FIGURES}
 """Plain names of the figures shown on the section screen (from :mod:`stakeline.survey.figures`)."""
 
+AREA_FIGURES = frozenset({"area"})
+"""Figures measured in the square of the survey unit."""
 
-def open_service(folder: str, demo: bool = True) -> FieldService:
+
+def open_service(folder: str, demo: bool = True, outbox: str | None = None) -> FieldService:
     """Open (or create) the device store ``stakeline.sqlite`` in ``folder`` and return a service.
 
     The folder and its parents are created when missing.  On first start (a store with no sites)
-    the invented Tessaly Creek demo survey is loaded so the home screen has something to show.
-    Packages go to ``folder/outbox`` unless the settings name another folder.
+    the invented Tessaly Creek demo survey is loaded -- marked as demo data, never packed -- so
+    the home screen has something to show.  Packages go to ``outbox`` (default: a visible
+    folder in the user's documents, :func:`stakeline.app.service.settings.default_outbox`)
+    unless the settings name another folder.
     """
     from stakeline.store import Store
 
@@ -421,4 +415,4 @@ def open_service(folder: str, demo: bool = True) -> FieldService:
     store = Store.open(os.path.join(folder, "stakeline.sqlite"))
     if demo and not store.sites():
         store.load_demo()
-    return FieldService(store, outbox=os.path.join(folder, "outbox"))
+    return FieldService(store, outbox=outbox or default_outbox())

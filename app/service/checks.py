@@ -50,14 +50,27 @@ class FieldChecks:
             # line-minus-reading check can run on it
             "meta": {k: visit[k] for k in META_KEYS},
             "settings": self.check_settings(visit["unit"]),
+            # planned stations without a reading block finishing (stakeline.checks.plan)
+            "plan": {
+                "planned": self.plan(visit_uuid),
+                "read": [r["station"] for r in self.readings(visit_uuid)],
+            },  # fmt: skip
         }
 
     @staticmethod
     def run_review(inputs: dict) -> list[dict]:
         """Run the field checks on :meth:`review_inputs` (pure: safe on a worker thread)."""
-        from stakeline.checks import review
+        from stakeline.checks import SEVERITIES, review
+        from stakeline.checks.plan import plan_findings
 
-        return [finding.as_dict() for finding in review(**inputs)]
+        inputs = dict(inputs)
+        plan = inputs.pop("plan", None)
+        findings = review(**inputs)
+        if plan is not None:
+            unit = inputs["meta"]["unit"]
+            findings += plan_findings(plan["planned"], plan["read"], unit)
+            findings.sort(key=lambda f: SEVERITIES.index(f.severity))  # stable: by station within
+        return [finding.as_dict() for finding in findings]
 
     def review(self, visit_uuid: str) -> list[dict]:
         """Field-check findings of the visit (dicts: kind, severity, station, message,

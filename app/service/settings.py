@@ -9,8 +9,41 @@ the device's unit; the ± follow a change of unit by conversion
 
 from __future__ import annotations
 
+import os
+
 from stakeline.app.service.util import ServiceError
 from stakeline.survey.numbers import parse_number
+
+OUTBOX_NAME = "Stakeline outbox"
+"""Name of the default outbox folder, in the user's documents."""
+
+
+def documents_folder(environ=None) -> str:
+    """The user's documents folder: ``$XDG_DOCUMENTS_DIR``, else its entry in the XDG user-dirs
+    file (``$XDG_CONFIG_HOME/user-dirs.dirs``, as ``xdg-user-dir DOCUMENTS`` reads it), else
+    ``~/Documents``."""
+    environ = os.environ if environ is None else environ
+    home = environ.get("HOME") or os.path.expanduser("~")
+    folder = environ.get("XDG_DOCUMENTS_DIR", "")
+    if not folder:
+        config = environ.get("XDG_CONFIG_HOME") or os.path.join(home, ".config")
+        try:
+            with open(os.path.join(config, "user-dirs.dirs"), encoding="utf-8") as handle:
+                for line in handle:
+                    name, _, value = line.strip().partition("=")
+                    if name == "XDG_DOCUMENTS_DIR":
+                        folder = value.strip().strip('"').replace("$HOME", home)
+        except OSError:
+            pass
+    if not folder or os.path.normpath(folder) == os.path.normpath(home):
+        folder = os.path.join(home, "Documents")  # the spec's "disabled" means: not home itself
+    return folder
+
+
+def default_outbox(environ=None) -> str:
+    """The outbox when the settings name none: a visible folder in the user's documents."""
+    return os.path.join(documents_folder(environ), OUTBOX_NAME)
+
 
 DEFAULT_SETTINGS = {
     "unit": "m",
@@ -62,6 +95,19 @@ class DeviceSettings:
 
         default = Precision.default(unit)
         return default.reading, default.station
+
+    def outbox(self) -> str:
+        """Folder for finished visit packages (created when first used): the one set in
+        Settings, else the default (:func:`default_outbox`, or the one the app was given)."""
+        return self.settings()["outbox"] or self.default_outbox
+
+    def outbox_setting(self, text: str) -> str:
+        """What to store for the outbox typed in Settings: "" (follow the default) when it is
+        empty or the default itself, else the folder with ``~`` expanded."""
+        folder = os.path.expanduser(str(text).strip())
+        if not folder or os.path.normpath(folder) == os.path.normpath(self.default_outbox):
+            return ""
+        return folder
 
     def save_settings(self, **values) -> dict:
         """Store changed settings after checking them all; returns all settings.

@@ -43,6 +43,38 @@ def uniform_stations(distance: float, count: int, step_round: float = 0.05) -> l
     return [round(float(s), 6) for s in stations] + [round(float(distance), 6)]
 
 
+def short_path(path: str, home: str | None = None, limit: int = 48) -> str:
+    """``path`` for a person to read in a line of text: the home folder written as ``~``, and a
+    path still longer than ``limit`` characters shortened in the middle (its first folder and
+    its last two parts kept).
+
+    >>> short_path("/home/ana/Documents/Stakeline outbox", home="/home/ana")
+    '~/Documents/Stakeline outbox'
+    >>> short_path("/media/usb/outbox", home="/home/ana")
+    '/media/usb/outbox'
+    >>> short_path("/tmp/a-rather-long-folder-name/and-another-one/documents/Stakeline outbox")
+    '/tmp/…/documents/Stakeline outbox'
+    """
+    import os
+
+    home = (os.path.expanduser("~") if home is None else home).rstrip(os.sep)
+    if home and (path == home or path.startswith(home + os.sep)):
+        path = "~" + path[len(home) :]
+    parts = path.split(os.sep)
+    if len(path) > limit and len(parts) > 4:
+        path = os.sep.join([*parts[:2], "…", *parts[-2:]])
+    return path
+
+
+def count_words(count: int, noun: str = "station") -> str:
+    """``"1 station"``, ``"21 stations"``: a count with its noun in the right number.
+
+    >>> count_words(1), count_words(0), count_words(21, "finding")
+    ('1 station', '0 stations', '21 findings')
+    """
+    return f"{count} {noun}" + ("" if count == 1 else "s")
+
+
 def next_station(plan: list[float], read: set[float], current: float | None) -> float | None:
     """The station to read after ``current``: the next planned one not yet read, else the first
     unread planned station, else ``None`` (every planned station has a reading)."""
@@ -55,17 +87,43 @@ def next_station(plan: list[float], read: set[float], current: float | None) -> 
 
 
 class Worker:
-    """Runs functions on a background thread and hands results back on the Kivy clock."""
+    """Runs functions on a background thread and hands results back on the Kivy clock.
+
+    A request made under a ``key`` (e.g. the screen asking) carries a token: when a newer request
+    under the same key has been made by the time a result arrives, the older result is dropped,
+    so a late answer never overwrites a newer one.
+    """
 
     def __init__(self):
         self.pending = 0
         self.cancelled = False  # set when the app stops: late results are dropped
+        self._latest: dict = {}  # key -> token of the newest request under that key
 
-    def run(self, function, on_done, on_error=None) -> None:
+    def request(self, key):
+        """Start a new request under ``key``; returns ``guard(callback)``, which wraps a callback
+        so that it runs only while this request is still the newest under ``key``."""
+        token = self._latest[key] = self._latest.get(key, 0) + 1
+
+        def guard(callback):
+            if callback is None:
+                return None
+
+            def guarded(value):
+                if self._latest.get(key) == token:
+                    callback(value)
+
+            return guarded
+
+        return guard
+
+    def run(self, function, on_done, on_error=None, key=None) -> None:
         """Call ``function()`` on a thread; then ``on_done(result)`` or ``on_error(exc)`` on the UI
-        thread."""
+        thread (dropped when a newer request under the same ``key`` was made meanwhile)."""
         from kivy.clock import Clock
 
+        if key is not None:
+            guard = self.request(key)
+            on_done, on_error = guard(on_done), guard(on_error)
         self.pending += 1
 
         def job():

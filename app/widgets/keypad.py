@@ -7,12 +7,9 @@ key to the same actions so screens can forward ``Window.on_key_down`` to :meth:`
 
 from __future__ import annotations
 
-from kivy.properties import BooleanProperty, NumericProperty, StringProperty
+from kivy.properties import BooleanProperty, StringProperty
 from kivy.uix.boxlayout import BoxLayout
-from stakeline.app import kv
 from stakeline.app.widgets import common  # noqa: F401  (registers BigButton, used by keypad.kv)
-
-kv.load("widgets/keypad.kv")
 
 MAX_CHARACTERS = 10
 """Longest number the keypad accepts (sign, digits and point)."""
@@ -80,22 +77,38 @@ class Keypad(BoxLayout):
     """Digits, point, sign, back, clear and a wide enter key; fires ``on_enter``.
 
     ``enter_text`` labels the enter key ("Save + next", "Set level"...); ``allow_negative``
-    shows the sign key; ``key_height`` is the key height in pixels.
+    shows the sign key in place of Clear.  The keys share the keypad's height, which stretches
+    between four glove-sized keys and four small ones (48 dp) as the window allows.
     """
 
     text = StringProperty("")
     enter_text = StringProperty("Enter")
     allow_negative = BooleanProperty(False)
-    key_height = NumericProperty(0)
+    option_text = StringProperty("Clear")
+    """Text of the key beside 6: "+/-" when negatives are allowed, else "Clear"."""
+    option_action = StringProperty("clear")
+    option_tone = StringProperty("caution")
+    fresh = BooleanProperty(False)
+    """True while the text is a field's value just brought in: the next digit or point
+    replaces it (as typing replaces a selected value), any other key keeps it."""
 
     __events__ = ("on_enter",)
+
+    def on_allow_negative(self, *_args) -> None:
+        """The key beside 6 changes the sign when negatives are allowed, else clears."""
+        if self.allow_negative:
+            self.option_text, self.option_action, self.option_tone = "+/-", "sign", "plain"
+        else:
+            self.option_text, self.option_action, self.option_tone = "Clear", "clear", "caution"
 
     def press(self, action: str) -> None:
         """Apply one action: a digit, ``"."``, ``"sign"``, ``"back"``, ``"clear"`` or ``"enter"``."""
         if action == "enter":
             self.dispatch("on_enter")
             return
-        self.text = edit_number(self.text, action, self.allow_negative)
+        start = "" if self.fresh and (action == "." or action.isdigit()) else self.text
+        self.fresh = False
+        self.text = edit_number(start, action, self.allow_negative)
 
     def on_enter(self, *args):
         """Default handler: nothing (screens bind their own)."""

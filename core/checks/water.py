@@ -133,7 +133,8 @@ def sparse_findings(stations, elevations, stage: float, settings=None) -> list[F
             "sparse",
             "warn",
             float(x[lo]),
-            f"only {count} stations across the water from {_at(left, unit)} to "
+            f"only {count} station{'' if count == 1 else 's'} across the water from "
+            f"{_at(left, unit)} to "
             f"{_at(right, unit)}; at least {need} are asked for (common practice: 20 or more)",
             f"add stations about every {_len(spacing, unit, 2)} across the water, starting near "
             f"{_new_station(left + spacing, unit)}",

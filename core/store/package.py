@@ -243,9 +243,13 @@ def _is_current(path: Path, records: dict, public_key: str) -> bool:
 
 
 def pack_visits(
-    store, outbox: str | os.PathLike, progress: Callable[[int, int], None] | None = None
+    store,
+    outbox: str | os.PathLike,
+    progress: Callable[[int, int], None] | None = None,
+    skip_demo: bool = False,
 ) -> list[dict]:
-    """Write a signed package for every finished visit of ``store`` into the folder ``outbox``.
+    """Write a signed package for every finished visit of ``store`` into the folder ``outbox``;
+    ``skip_demo`` leaves out the invented demo visits (``settings["demo"]``, as the app does).
 
     Returns one dict per visit: {visit, path, status} with status ``written`` or ``unchanged``
     (the outbox already holds a package with the same records, signed by this store's key).
@@ -260,7 +264,11 @@ def pack_visits(
     key = store.signing_key()
     public_key = signing.public_hex(key)
     results = []
-    finished = [visit for visit in store.visits() if visit["finished"]]
+    finished = [
+        visit
+        for visit in store.visits()
+        if visit["finished"] and not (skip_demo and visit["settings"].get("demo"))
+    ]
     for visit in finished:
         records = store.visit_records(visit["uuid"])
         path = folder / package_name(records)

@@ -236,7 +236,8 @@ class Store:
     # -- demo data ----------------------------------------------------------------------------
     def load_demo(self, json_path: str | os.PathLike | None = None) -> list[dict]:
         """Load the invented demo survey (finished visits with their water levels) in one
-        transaction; returns the created visits as :meth:`visit` dicts."""
+        transaction; returns the created visits as :meth:`visit` dicts.  Each visit is marked
+        ``settings["demo"] = True`` so that the app never sends it to the office."""
         path = DEMO_PATH if json_path is None else Path(json_path)
         try:
             demo = json.loads(Path(path).read_text(encoding="utf-8"))
@@ -271,5 +272,6 @@ class Store:
             for point in spec["stations"]:
                 self.save_station(visit["uuid"], point["station"], point["reading"],
                                   point.get("code", ""), point.get("note", ""))  # fmt: skip
+            self.update_visit(visit["uuid"], settings={"demo": True})  # invented: never sent
             self.finish_visit(visit["uuid"])
         return visit["uuid"]

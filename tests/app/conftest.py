@@ -1,14 +1,16 @@
 """Fixtures for the headless UI tests: one window for the whole session, a fresh app per test.
 
 Follows ../shared/KIVY-TESTING.md: the environment comes from tests/conftest.py; the window is
-created once at 1920x1280 (the offscreen surface does not grow later) and only resized between
-the landscape 1280x800 and portrait 800x1280 layouts; it is never closed; each app is stopped in
-teardown; NoTransition; ``Clock._max_fps = 0`` so frames do not sleep.
+created once at 1920x1920 (the offscreen surface does not grow later, and the tallest size the
+layout test tries is a 1200x1920 portrait tablet) and resized within it; it is never closed; each
+app is stopped in teardown; NoTransition; ``Clock._max_fps = 0`` so frames do not sleep.  The
+default outbox (the user's documents) is a temporary folder here.
 """
 
 from __future__ import annotations
 
 import os
+import tempfile
 import time
 
 import pytest
@@ -22,7 +24,7 @@ def _configure_kivy() -> None:
     from kivy.config import Config
 
     Config.set("graphics", "width", "1920")
-    Config.set("graphics", "height", "1280")
+    Config.set("graphics", "height", "1920")
     Config.set("kivy", "exit_on_escape", "0")
     if Config.has_section("input"):
         for option in Config.options("input"):
@@ -30,6 +32,7 @@ def _configure_kivy() -> None:
 
 
 _configure_kivy()
+os.environ["XDG_DOCUMENTS_DIR"] = tempfile.mkdtemp(prefix="stakeline-documents-")
 
 
 class Driver:
@@ -112,6 +115,27 @@ class Driver:
         keys = {k.action: k for k in screen.ids.keypad.walk() if hasattr(k, "action")}
         self.tap(keys["enter"])
 
+    def dialog(self, kind: str | None = None):
+        """The dialog open on top of the screen (of class ``kind`` when given), or None."""
+        from kivy.uix.modalview import ModalView
+
+        return next(
+            (
+                w
+                for w in self.window.children
+                if isinstance(w, ModalView) and (kind is None or type(w).__name__ == kind)
+            ),
+            None,
+        )
+
+    def confirm(self) -> None:
+        """Tap the confirming button of the open confirmation dialog (after looking at it)."""
+        popup = self.dialog("ConfirmPopup")
+        assert popup is not None, "no confirmation was asked"
+        self.frames(2)
+        self.tap(popup.ids.confirm)
+        self.wait(lambda: popup.parent is None)
+
     def go(self, name: str, **options) -> None:
         """Show a screen the way the step bar does, and let it lay out."""
         self.app.go(name, **options)
@@ -122,6 +146,21 @@ class Driver:
         self.window.dispatch("on_key_down", key, 0, codepoint, [])
         self.window.dispatch("on_key_up", key, 0)
         self.frames(1)
+
+    def press(self, key: int, codepoint: str | None = None, modifiers=()) -> None:
+        """One physical key as SDL delivers it: key down (then ``on_keyboard`` when nothing
+        took it), the typed character, key up."""
+        if not self.window.dispatch("on_key_down", key, 0, codepoint, list(modifiers)):
+            self.window.dispatch("on_keyboard", key, 0, codepoint, list(modifiers))
+        if codepoint:
+            self.window.dispatch("on_textinput", codepoint)
+        self.window.dispatch("on_key_up", key, 0)
+        self.frames(1)
+
+    def type_keys(self, text: str) -> None:
+        """Type ``text`` on the physical keyboard, one key per character."""
+        for ch in text:
+            self.press(ord(ch.lower()), ch, ["shift"] if ch.isupper() else [])
 
     def type_text(self, text_input, text: str) -> None:
         """Focus a TextInput and type into it."""
@@ -183,11 +222,13 @@ def data_dir(tmp_path):
 
 
 @pytest.fixture
-def ui(window, data_dir):
-    """The Stakeline app running on a fresh store (with the demo survey), driven by a Driver."""
+def ui(window, data_dir, tmp_path, monkeypatch):
+    """The Stakeline app running on a fresh store (with the demo survey), driven by a Driver;
+    its default outbox is in a fresh documents folder."""
     from kivy.base import runTouchApp
     from stakeline.app.main import StakelineApp
 
+    monkeypatch.setenv("XDG_DOCUMENTS_DIR", str(tmp_path / "documents"))
     window.size = LANDSCAPE
     app = StakelineApp(data_dir=data_dir, animate=False)
     app._run_prepare()

@@ -40,6 +40,7 @@ def test_blocking_finding_needs_a_written_reason(ui, visit):
 
     ui.type_text(screen.ids.reason, "line re-levelled after the check; heights confirmed")
     ui.tap(screen.ids.finish)
+    ui.confirm()  # finishing asks once, with a summary
     ui.wait(lambda: screen.package_path != "" or "could not" in screen.message)
     assert screen.package_path, screen.message
     overrides = ui.app.service.store.overrides(visit)

@@ -117,7 +117,7 @@ def live_section(ui, visit: str) -> None:
     assert f"{reference:.3f} m²" in section.value_text
     assert "Wading safety" in section.ids.wading.text
     assert "licensed engineering review" in section.ids.estimate.text
-    ui.tap(section.ids.record)
+    ui.enter()  # the keypad's Record level
     assert ui.app.service.water_level(visit) == pytest.approx(99.2)
     view = section.ids.view
     _, y = view.to_screen(0.0, 99.2)
@@ -129,7 +129,7 @@ def live_section(ui, visit: str) -> None:
     for _ in range(len(section.ids.keypad.text)):
         ui.keypad("back")
     ui.keypad("99.2")
-    ui.tap(section.ids.record)
+    ui.enter()
 
 
 def correct_the_spike(ui, visit: str) -> None:
@@ -165,6 +165,7 @@ def finish(ui, visit: str) -> None:
     assert not any(f["kind"] == "spike" for f in checks.findings)
     assert checks.blocking == 0
     ui.tap(checks.ids.finish)
+    ui.confirm()  # finishing asks once, with a summary
     ui.wait(lambda: checks.package_path != "" or "could not" in checks.message)
     path = checks.package_path
     assert path, checks.message
