@@ -16,7 +16,6 @@ from kivy.uix.behaviors import ButtonBehavior
 from kivy.uix.boxlayout import BoxLayout
 from stakeline.app import theme
 from stakeline.app.screens.base import BaseScreen
-from stakeline.app.service import short_path
 from stakeline.app.widgets.popups import ConfirmPopup
 
 SEVERITY_WORDS = {"block": "MUST FIX", "warn": "LOOK AT", "note": "NOTE"}
@@ -161,7 +160,7 @@ class ChecksScreen(BaseScreen):
 
     def _written(self, path: str) -> None:
         self.package_path = path
-        self.say(f"Visit finished. Package written to {short_path(path)}", "saved")
+        self.say(f"Visit finished. Package written to {path}", "saved")
 
     def _not_written(self, exc: Exception) -> None:
         self.say(f"Visit finished, but the package could not be written: {exc}", "flagged")

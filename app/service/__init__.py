@@ -43,6 +43,7 @@ FEATURE_CODES = tuple(CHIPS)
 """Quick feature codes on the readings screen: (stored code, button text), from
 :data:`stakeline.survey.codes.CHIPS`."""
 
+
 def is_demo(visit: dict) -> bool:
     """True for a visit of the invented demo survey (marked so in its settings by
     :meth:`stakeline.store.Store.load_demo`): the app never sends it to the office."""

@@ -115,7 +115,8 @@ elif first == "section":
         keys(["back"])
     keys("99.3")
     tap({k.action: k for k in screen().ids.keypad.walk() if hasattr(k, "action")}["enter"])
-    assert service.water_level(app.visit_uuid) == 99.3, screen().message
+    recorded = service.visit(app.visit_uuid)["water_levels"]
+    assert recorded[-1]["elevation"] == 99.3, screen().message
 elif first == "detail":
     tab("section")
     tap(screen().ids.detail)
