@@ -3,9 +3,10 @@ sync by file copy (USB stick, shared folder).  Data only -- JSON, no code, no pi
 
 A package is the canonical JSON text (sorted keys, no spaces, ASCII) of::
 
-    {"manifest": {"format": "stakeline-visit/2", "visit": UUID, "device": ..., "created": ...,
+    {"manifest": {"format": "stakeline-visit/3", "visit": UUID, "device": ..., "created": ...,
                   "key": HEX64, "sha256": HEX64, "signature": HEX128},
-     "records": {site, section, visit, edits, station_versions, water_levels, overrides}}
+     "records": {site, section, visit, edits, station_versions, water_levels, overrides,
+                 visit_meters, velocity_versions, water_surface_versions}}
 
 followed by one newline.  ``signature`` is the Ed25519 signature, by the device's key
 (``key``, its public half), of the canonical text with ``sha256`` and ``signature`` blanked
@@ -14,8 +15,10 @@ followed by one newline.  ``signature`` is the Ed25519 signature, by the device'
 and tells plain damage (a bad copy) from a change made after signing.  On import the file must
 be exactly its canonical form and the checksum must match (else: rejected, damaged); then the
 signature must hold and its key be trusted by the office and not retired (else: *held* -- kept
-whole, listed, not merged).  Packages of the older format ``stakeline-visit/1`` have no
-signature and are held as unsigned.
+whole, listed, not merged).  Format 3 added the gauging records (the meters a visit was gauged
+with, velocity versions, water-surface versions); packages of format 2 (signed the same way,
+without gauging records) are still read and merged, those of format ``stakeline-visit/1`` have
+no signature and are held as unsigned.
 
 Files are written through :mod:`stakeline.files.durable` (exclusive temporary file, fsync,
 rename), so a half-written file never carries the package name.  Nothing inside a package is
@@ -41,13 +44,16 @@ from stakeline.store.faults import StoreFaultError
 from stakeline.store.records import MAX_ROWS, PackageError, check_records, value_ok
 from stakeline.store.values import StoreError, canonical_json, now
 
-__all__ = ["FORMAT", "LEGACY_FORMAT", "SUFFIX", "MAX_BYTES", "MAX_ROWS", "PackageError",
+__all__ = ["FORMAT", "PREVIOUS_FORMAT", "LEGACY_FORMAT", "SUFFIX", "MAX_BYTES", "MAX_ROWS", "PackageError",
            "build_package", "parse_package", "signature_valid", "pack_visits", "import_file",
            "import_files", "retry_held", "expand_paths", "read_limited", "package_name",
            "records_sha", "sha256_hex", "write_atomic"]  # fmt: skip
 
-FORMAT = "stakeline-visit/2"
+FORMAT = "stakeline-visit/3"
 """Format tag of the (signed) package files this code writes."""
+
+PREVIOUS_FORMAT = "stakeline-visit/2"
+"""Format tag of signed packages written before gauging records: still read and merged."""
 
 LEGACY_FORMAT = "stakeline-visit/1"
 """Format tag of the older unsigned packages: still read, always held."""
@@ -168,9 +174,11 @@ def parse_package(data: bytes) -> tuple[dict, dict]:
     manifest = document["manifest"]
     if not isinstance(manifest, dict) or set(manifest) not in (_MANIFEST_V1, _MANIFEST_V2):
         raise PackageError("damaged or foreign: its manifest is not a Stakeline manifest")
-    wanted = FORMAT if "key" in manifest else LEGACY_FORMAT
-    if manifest["format"] != wanted:
-        raise PackageError(f"format {str(manifest['format'])[:40]!r} is not {wanted!r}")
+    wanted = (FORMAT, PREVIOUS_FORMAT) if "key" in manifest else (LEGACY_FORMAT,)
+    if manifest["format"] not in wanted:
+        raise PackageError(
+            f"format {str(manifest['format'])[:40]!r} is not {' or '.join(map(repr, wanted))}"
+        )
     try:
         canonical = _canonical_bytes(document)
     except ValueError:
@@ -187,7 +195,8 @@ def parse_package(data: bytes) -> tuple[dict, dict]:
         signing.is_public_key(manifest["key"]) and signing.is_signature(manifest["signature"])
     ):
         raise PackageError("damaged: its manifest holds no valid key or signature")
-    check_records(document["records"], manifest["visit"])
+    gauging = {FORMAT: True, PREVIOUS_FORMAT: False}.get(manifest["format"])
+    check_records(document["records"], manifest["visit"], gauging)
     return manifest, document["records"]
 
 

@@ -6,7 +6,9 @@ numbers are finite and of sane size (no integer SQLite cannot hold), dates are r
 dates written YYYY-MM-DD, an added or corrected station has both a station and a reading, and
 each logged field change (``edits``) obeys the store's own column rules
 (:mod:`stakeline.store.columns`) -- so no package can bring a value the store's own setters
-would refuse.
+would refuse.  The gauging records (:data:`GAUGING_LISTS`: the meters a visit used, velocity
+versions and water-surface versions) obey the same rules: a meter's rating, each vertical's
+method and points, and every revolution counted through a meter the package carries.
 """
 
 from __future__ import annotations
@@ -16,7 +18,16 @@ import re
 from collections.abc import Callable
 from typing import Any
 
-from stakeline.store.columns import TIME_LIMIT, check_columns
+from stakeline.gauging.vertical import VERTICAL_METHODS
+from stakeline.store.columns import (
+    METER_FIELDS,
+    METER_KINDS,
+    TIME_LIMIT,
+    check_columns,
+    check_meter,
+    check_velocity,
+    check_water_surface,
+)
 from stakeline.store.values import METHODS, TEXT_LIMIT, StoreError, iso_date
 from stakeline.survey.reduction import UNITS
 
@@ -67,16 +78,40 @@ FIELDS: dict[str, dict[str, str]] = {
         "uuid": "uuid", "visit_uuid": "uuid", "kind": "text", "station": "number?",
         "reason": "text", **_STAMPS,
     },
+    "visit_meters": {
+        "uuid": "uuid", "visit_uuid": "uuid", "meter_uuid": "uuid", "serial": "text",
+        "kind": "meter_kind", "unit": "unit", "a": "number?", "b": "number?", "split": "number?",
+        "a_high": "number?", "b_high": "number?", "lowest": "number?", "highest": "number?",
+        "note": "text", **_STAMPS,
+    },
+    "velocity_versions": {
+        "uuid": "uuid", "vertical_uuid": "uuid", "visit_uuid": "uuid", "action": "action",
+        "station": "number?", "method": "vertical_method?", "points": "object?",
+        "meter_uuid": "uuid?", "angle": "number?", "depth": "number?", "note": "text?",
+        "seq": "count", "undoes": "uuid?", "created": "time", "device": "text",
+    },
+    "water_surface_versions": {
+        "uuid": "uuid", "point_uuid": "uuid", "visit_uuid": "uuid", "action": "action",
+        "distance": "number?", "elevation": "number?", "note": "text?", "seq": "count",
+        "undoes": "uuid?", "created": "time", "device": "text",
+    },
 }  # fmt: skip
 """Every field of every record kind in a package, with its kind of value."""
 
 LISTS = ("edits", "station_versions", "water_levels", "overrides")
+"""Lists of records every package holds."""
+
+GAUGING_LISTS = ("visit_meters", "velocity_versions", "water_surface_versions")
+"""Lists of gauging records: in every package of format 3, in none of format 2."""
+
 CHOICES = {
     "origin": ("left", "right"),
     "unit": tuple(UNITS),
     "method": METHODS,
     "table": ("sites", "sections", "visits"),
     "action": ("add", "correct", "remove", "undo"),
+    "meter_kind": METER_KINDS,
+    "vertical_method": tuple(VERTICAL_METHODS),
 }
 OWNER_TABLES = {"site": "sites", "section": "sections", "visit": "visits"}
 
@@ -165,10 +200,55 @@ def _check_edit(row: dict, where: str) -> None:
         raise PackageError(f"{where} does not name the same fields before and after")
 
 
-def check_records(records: Any, visit_uuid: str) -> None:
-    """Raise PackageError unless ``records`` is a well-formed, self-consistent visit."""
-    if not isinstance(records, dict) or set(records) != {"site", "section", "visit", *LISTS}:
+def _check_meter(row: dict, where: str, meters: set[str]) -> None:
+    try:
+        check_meter({name: row[name] for name in METER_FIELDS})
+    except StoreError as exc:
+        raise PackageError(f"{where} is not a usable meter: {exc}") from None
+    if row["meter_uuid"] in meters:
+        raise PackageError(f"{where} records a meter the visit already has")
+    meters.add(row["meter_uuid"])
+
+
+def _check_changed(row: dict, where: str, check, fields) -> None:
+    """A version that adds, corrects or removes a record carries values its rules accept; an
+    undo names the change it undoes."""
+    if row["action"] == "undo":
+        if row["undoes"] is None:
+            raise PackageError(f"{where} (undo) does not say which change it undoes")
+        return
+    try:
+        check({name: row[name] for name in fields})
+    except StoreError as exc:
+        raise PackageError(f"{where} ({row['action']}): {exc}") from None
+
+
+def _check_vertical(row: dict, where: str, meters: set[str]) -> None:
+    fields = ("station", "method", "points", "meter_uuid", "angle", "depth", "note")
+    _check_changed(row, where, check_velocity, fields)
+    if row["action"] != "undo" and row["meter_uuid"] is not None:
+        if row["meter_uuid"] not in meters:
+            raise PackageError(f"{where} names a meter the package does not carry")
+
+
+def _check_lists(records: dict, gauging: bool | None) -> tuple[str, ...]:
+    """The list kinds ``records`` must hold: the gauging lists with them (``gauging`` True),
+    without (False), or either way as given (None)."""
+    base = {"site", "section", "visit", *LISTS}
+    full = base | set(GAUGING_LISTS)
+    allowed = {True: (full,), False: (base,), None: (base, full)}[gauging]
+    if not isinstance(records, dict) or set(records) not in allowed:
         raise PackageError("its records are not those of a visit package")
+    return LISTS + (GAUGING_LISTS if set(records) == full else ())
+
+
+def check_records(records: Any, visit_uuid: str, gauging: bool | None = True) -> None:
+    """Raise PackageError unless ``records`` is a well-formed, self-consistent visit.
+
+    ``gauging``: the records hold the :data:`GAUGING_LISTS` (True, format 3), do not (False,
+    format 2), or may (None: the unsigned format 1, which is only ever held).
+    """
+    lists = _check_lists(records, gauging)
     for kind in ("site", "section", "visit"):
         _check_record(kind, records[kind], kind)
     site, section, visit = records["site"], records["section"], records["visit"]
@@ -178,7 +258,8 @@ def check_records(records: Any, visit_uuid: str) -> None:
         raise PackageError("its manifest names a different visit than its records")
     owners = {site["uuid"]: "sites", section["uuid"]: "sections", visit["uuid"]: "visits"}
     seen = set(owners)
-    for kind in LISTS:
+    meters: set[str] = set()
+    for kind in lists:
         rows = records[kind]
         if not isinstance(rows, list) or len(rows) > MAX_ROWS:
             raise PackageError(f"its {kind} are not a list of at most {MAX_ROWS} records")
@@ -196,3 +277,9 @@ def check_records(records: Any, visit_uuid: str) -> None:
                 raise PackageError(f"{where} belongs to another visit")
             elif kind == "station_versions":
                 _check_version(row, where)
+            elif kind == "visit_meters":
+                _check_meter(row, where, meters)
+            elif kind == "velocity_versions":
+                _check_vertical(row, where, meters)
+            elif kind == "water_surface_versions":
+                _check_changed(row, where, check_water_surface, ("distance", "elevation", "note"))

@@ -17,6 +17,10 @@ Versions:
    trusts, with who trusted each and when, and when a key was retired); the import log records
    the key that signed each package (``signer_key``) and keeps held packages
    (``status = 'held'``).
+6. gauging: ``meters`` (current meters kept on the device, with their ratings),
+   ``visit_meters`` (the rating of each meter a visit used, recorded with the visit),
+   ``velocity_versions`` (the velocity read at each vertical, append-only like station versions)
+   and ``water_surface_versions`` (water-surface points for the slope, append-only).
 """
 
 from __future__ import annotations
@@ -175,12 +179,67 @@ def _v5_custody(db: sqlite_utils.Database) -> None:
     db["packages"].create_index(["status", "resolved"])
 
 
+_METER_COLUMNS = {
+    "serial": str,
+    "kind": str,  # rotating | electromagnetic | acoustic
+    "unit": str,  # length unit of a, b and the rated range
+    "a": float,  # v = a + b·N (unit/s), N revolutions per second; NULL for direct meters
+    "b": float,  # unit per revolution
+    "split": float,  # rev/s from which the second line a_high + b_high·N applies
+    "a_high": float,
+    "b_high": float,
+    "lowest": float,  # rated range (unit/s)
+    "highest": float,
+    "note": str,
+}
+
+
+def _v6_gauging(db: sqlite_utils.Database) -> None:
+    """Version 6: current meters, the velocities read at the verticals, water-surface points."""
+    db["meters"].create({"uuid": str, **_METER_COLUMNS, **STAMPS}, pk="uuid")
+    db["meters"].create_index(["serial"])
+    db["visit_meters"].create(
+        {"uuid": str, "visit_uuid": str, "meter_uuid": str, **_METER_COLUMNS, **STAMPS},
+        pk="uuid",
+    )
+    db["visit_meters"].create_index(["visit_uuid", "meter_uuid"], unique=True)
+    versions = {"id": int, "uuid": str, "visit_uuid": str, "action": str}
+    tail = {"note": str, "seq": int, "undoes": str, "created": str, "device": str}
+    required = {"uuid", "visit_uuid", "action", "created", "device"}
+    db["velocity_versions"].create(
+        {
+            **versions,
+            "vertical_uuid": str,
+            "station": float,
+            "method": str,  # one-point | two-point | three-point | surface | five-point
+            "points": str,  # JSON: point name -> {"velocity": v} or {"revolutions", "seconds"}
+            "meter_uuid": str,
+            "angle": float,  # degrees between the flow and the normal to the section
+            "depth": float,  # depth on the wading rod, when the crew typed it
+            **tail,
+        },
+        pk="id",
+        not_null=required | {"vertical_uuid"},
+    )
+    db["water_surface_versions"].create(
+        {**versions, "point_uuid": str, "distance": float, "elevation": float, **tail},
+        pk="id",
+        not_null=required | {"point_uuid"},
+    )
+    for table, identity in (("velocity_versions", "vertical_uuid"),
+                            ("water_surface_versions", "point_uuid")):  # fmt: skip
+        db[table].create_index(["uuid"], unique=True)
+        db[table].create_index(["visit_uuid", "id"])
+        db[table].create_index([identity])
+
+
 MIGRATIONS: list[Callable[[sqlite_utils.Database], None]] = [
     _v1_field_records,
     _v2_settings,
     _v3_import_log,
     _v4_entry_order_index,
     _v5_custody,
+    _v6_gauging,
 ]
 """``MIGRATIONS[k]`` carries a store from schema version ``k`` to ``k + 1``."""
 

@@ -12,6 +12,7 @@ each over one shared :class:`~stakeline.store.connection.StoreConnection` (the c
 its transaction helper): :class:`~stakeline.store.sites.Sites` (sites and sections),
 :class:`~stakeline.store.visits.Visits`, :class:`~stakeline.store.stations.Stations`,
 :class:`~stakeline.store.sync.Sync` (packages out, merge in, import log),
+:class:`~stakeline.store.gauging.Gauging` (meters, velocities, water-surface points),
 :class:`~stakeline.store.settings.Settings` and :class:`~stakeline.store.devices.Devices`
 (signing keys and trust).  :mod:`stakeline.store.schema` holds the tables and migrations,
 :mod:`stakeline.store.values` and :mod:`stakeline.store.columns` the SQL-free rules.  Returned
@@ -31,6 +32,7 @@ from pathlib import Path
 from stakeline.store import health
 from stakeline.store.connection import LOCK_WAIT, StoreConnection, say_waiting
 from stakeline.store.devices import Devices
+from stakeline.store.gauging import Gauging
 from stakeline.store.schema import schema_version
 from stakeline.store.settings import Settings
 from stakeline.store.sites import Sites
@@ -66,6 +68,7 @@ class Store:
         self._sync = Sync(connection)
         self._settings = Settings(connection)
         self._devices = Devices(connection)
+        self._gauging = Gauging(connection)
         self.closed = False
 
     # -- opening and closing ------------------------------------------------------------------
@@ -220,6 +223,26 @@ class Store:
     held_content = _part("_sync", Sync.held_content)
     hold_package = _part("_sync", Sync.hold_package)
     visit_signer = _part("_sync", Sync.visit_signer)
+
+    add_meter = _part("_gauging", Gauging.add_meter)
+    meters = _part("_gauging", Gauging.meters)
+    meter = _part("_gauging", Gauging.meter)
+    visit_meters = _part("_gauging", Gauging.visit_meters)
+    save_velocity = _part("_gauging", Gauging.save_velocity)
+    correct_velocity = _part("_gauging", Gauging.correct_velocity)
+    remove_velocity = _part("_gauging", Gauging.remove_velocity)
+    velocities = _part("_gauging", Gauging.velocities)
+    velocity_history = _part("_gauging", Gauging.velocity_history)
+    undo_velocity = _part("_gauging", Gauging.undo_velocity)
+    add_water_surface_point = _part("_gauging", Gauging.add_water_surface_point)
+    correct_water_surface_point = _part("_gauging", Gauging.correct_water_surface_point)
+    remove_water_surface_point = _part("_gauging", Gauging.remove_water_surface_point)
+    water_surface_points = _part("_gauging", Gauging.water_surface_points)
+    water_surface_history = _part("_gauging", Gauging.water_surface_history)
+    undo_water_surface_point = _part("_gauging", Gauging.undo_water_surface_point)
+    gauging_settings = _part("_gauging", Gauging.gauging_settings)
+    set_gauging_settings = _part("_gauging", Gauging.set_gauging_settings)
+    gauging = _part("_gauging", Gauging.gauging)
 
     get_setting = _part("_settings", Settings.get_setting)
     set_setting = _part("_settings", Settings.set_setting)

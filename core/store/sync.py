@@ -4,7 +4,8 @@ One part of :class:`stakeline.store.Store`; the file format, checksums, signatur
 live in :mod:`stakeline.store.package`, which holds no SQL.
 
 Merging never overwrites.  Each site, section and visit has a history of changes with their own
-UUIDs (``edits``; for a visit also its station versions, water levels and overrides).  When the
+UUIDs (``edits``; for a visit also its station versions, water levels, overrides and gauging
+records: the meters it was gauged with, velocity versions and water-surface versions).  When the
 incoming history contains the office's, the office copy is brought forward; when the office's
 contains the incoming one, nothing changes; when each holds changes the other lacks, the office
 copy stays as it is, the incoming package is kept whole in the ``packages`` table and the
@@ -24,8 +25,11 @@ from stakeline.store.connection import StoreConnection
 from stakeline.store.values import StoreError, canonical_json, choice, now, replay
 
 RECORD_TABLES = ("sites", "sections", "visits")
-CHILD_TABLES = ("station_versions", "water_levels", "overrides")
-JSON_COLUMNS = {"crew", "planned", "settings", "before", "after"}
+CHILD_TABLES = ("station_versions", "water_levels", "overrides", "visit_meters",
+                "velocity_versions", "water_surface_versions")  # fmt: skip
+"""A visit's own records, merged by history with it (packages of format 2 and older have no
+gauging records: their lists count as empty)."""
+JSON_COLUMNS = {"crew", "planned", "settings", "before", "after", "points"}
 """Columns held as JSON text in SQLite and as JSON values in a package."""
 
 
@@ -33,6 +37,11 @@ def _decode(row: dict) -> dict:
     out = {k: (json.loads(v) if k in JSON_COLUMNS and v is not None else v) for k, v in row.items()}
     out.pop("id", None)
     return out
+
+
+def _children(records: dict) -> list[tuple[str, dict]]:
+    """(table, record) of every child record of a package's visit, table by table."""
+    return [(table, row) for table in CHILD_TABLES for row in records.get(table, ())]
 
 
 def _encode(record: dict) -> dict:
@@ -53,7 +62,8 @@ class Sync:
     def visit_records(self, visit_uuid: str) -> dict[str, Any]:
         """Everything about one visit as plain JSON-ready data: ``site``, ``section``, ``visit``
         (raw rows), and lists ``edits`` (of the three), ``station_versions``, ``water_levels``,
-        ``overrides`` (every version, oldest first).  Lengths in the visit's unit."""
+        ``overrides``, ``visit_meters``, ``velocity_versions``, ``water_surface_versions``
+        (every version, oldest first).  Lengths in the visit's unit."""
         visit = self.db.get("visits", visit_uuid, "visit")
         section = self.db.get("sections", visit["section_uuid"], "section")
         site = self.db.get("sites", section["site_uuid"], "site")
@@ -69,7 +79,9 @@ class Sync:
                 )
             ],
         }
-        order = {"station_versions": "id", "water_levels": "created", "overrides": "created"}
+        order = {"station_versions": "id", "water_levels": "created", "overrides": "created",
+                 "visit_meters": "created, uuid", "velocity_versions": "id",
+                 "water_surface_versions": "id"}  # fmt: skip
         for table in CHILD_TABLES:
             records[table] = [
                 _decode(r)
@@ -217,7 +229,7 @@ class Sync:
                     f"UPDATE {table} SET {assignments}, modified = ?, device = ? WHERE uuid = ?",
                     [*after.values(), edit["created"], edit["device"], uuid],
                 )
-            children = [(t, r) for t in CHILD_TABLES for r in records[t]] if key == "visit" else []
+            children = _children(records) if key == "visit" else []
             history = [("edits", e) for e in missing] + children
             self._insert_history([(t, r) for t, r in history if r["uuid"] not in office])
 
@@ -282,8 +294,7 @@ class Sync:
                 conflict = True
                 notes.append(f"{key} {record['name']!r} differs from the office copy (kept)")
         own = [e for e in edits if e["record_uuid"] == visit_uuid]
-        children = [(t, r) for t in CHILD_TABLES for r in records[t]]
-        outcome = self._merge_record("visits", records["visit"], own, children)
+        outcome = self._merge_record("visits", records["visit"], own, _children(records))
         current, _, _ = replay(records["station_versions"])
         count = sum(v["action"] != "remove" for v in current.values())
         if outcome == "conflict":

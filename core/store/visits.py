@@ -166,6 +166,10 @@ class Visits:
                    coalesce((SELECT max(created) FROM water_levels
                              WHERE visit_uuid = v.uuid), ''),
                    coalesce((SELECT max(created) FROM overrides
+                             WHERE visit_uuid = v.uuid), ''),
+                   coalesce((SELECT max(created) FROM velocity_versions
+                             WHERE visit_uuid = v.uuid), ''),
+                   coalesce((SELECT max(created) FROM water_surface_versions
                              WHERE visit_uuid = v.uuid), '')) AS modified,
                (SELECT count(*) FROM packages p WHERE p.visit_uuid = v.uuid
                  AND p.status = 'conflict' AND p.resolved IS NULL) AS conflicts

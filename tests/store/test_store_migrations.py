@@ -69,6 +69,11 @@ def test_every_earlier_version_migrates_to_the_latest(tmp_path, version):
             )
             store.save_station(VISIT, 1.0, 0.58)  # the migrated file takes new readings
             assert store.visit(VISIT)["station_count"] == 3
+            # ... and a gauging (version 6): a velocity at a vertical, a water-surface point
+            store.save_velocity(VISIT, 0.5, "one-point", {"v06": {"velocity": 0.31}})
+            store.add_water_surface_point(VISIT, -20.0, 100.95)
+            assert [v["station"] for v in store.velocities(VISIT)] == [0.5]
+            assert store.gauging_settings(VISIT)["method"] == "midsection"
     with Store.open(path) as store:  # and opens again without migrating twice
         assert store.schema_version == LATEST
 
@@ -101,7 +106,15 @@ def test_each_step_adds_what_it_says(tmp_path):
     migrate(db, target=5)
     assert "devices" in db.table_names()
     assert "signer_key" in db["packages"].columns_dict
-    assert schema_version(conn) == 5 == LATEST
+    assert schema_version(conn) == 5
+    migrate(db, target=6)
+    assert {"meters", "visit_meters", "velocity_versions", "water_surface_versions"} <= set(
+        db.table_names()
+    )
+    assert any(i.columns == ["visit_uuid", "meter_uuid"] and i.unique
+               for i in db["visit_meters"].indexes)  # fmt: skip
+    assert any(i.columns == ["vertical_uuid"] for i in db["velocity_versions"].indexes)
+    assert schema_version(conn) == 6 == LATEST
     conn.close()
 
 
