@@ -4,8 +4,9 @@
 returns them, :class:`AnalysisOptions`, and the earlier visit to compare -- and returns one
 :class:`VisitAnalysis`: the wetted figures at the visit's water level with their ± bands,
 Manning's figures with the discharge at the low and high n of the roughness row, the
-divided-channel subsections, the rating table, the bankfull summary and the change since the
-earlier visit.  The office report (:func:`stakeline.report.prepare_report`), the tablet's office
+divided-channel subsections, the rating table, the bankfull summary, the change since the
+earlier visit and, given its gauging records, the measured discharge, the slope, the calibrated
+n and the section's measured rating (:mod:`stakeline.gauging`).  The office report (:func:`stakeline.report.prepare_report`), the tablet's office
 figures and the command line all show this one result, so they show the same numbers.
 
 Two written policies decide what a visit's figures are about:
@@ -35,6 +36,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 from stakeline.errors import SurveyError
+from stakeline.gauging import MeasuredRating, VisitGauging, measured_rating, visit_gauging
 from stakeline.survey.compare import compare_visits
 from stakeline.survey.datum import Datum, usable_elevations
 from stakeline.survey.geometry import Section
@@ -161,7 +163,8 @@ class AnalysisOptions:
     ``rating_step`` the rating table's step (default: a round step giving about 25 rows);
     ``method`` how the ± bands are found (``"linear"``: first-order propagation, the default,
     deterministic and O(stations); ``"monte-carlo"`` or ``"auto"``, see
-    :mod:`stakeline.survey.uncertainty`).
+    :mod:`stakeline.survey.uncertainty`).  The measured rating's e is ``rating_offset`` when
+    given, fitted with ``fit_offset``, else the section's lowest point.
 
     Examples
     --------
@@ -179,6 +182,8 @@ class AnalysisOptions:
     precision: Precision | None = None
     rating_step: float | None = None
     method: str = "linear"
+    rating_offset: float | None = None
+    fit_offset: bool = False
 
 
 @dataclass
@@ -192,8 +197,9 @@ class VisitAnalysis:
     the discharge at the row's ``minimum``, ``normal`` and ``maximum`` n; ``rating`` a dict of
     arrays (with discharge when n and slope are known); ``bankfull`` the bankfull summary;
     ``comparison`` :func:`stakeline.survey.compare.compare_visits` with ``previous`` the
-    earlier visit compared; the ``*_note`` fields say why a part is missing; ``missing`` lists
-    the inputs the discharge still needs.
+    earlier visit compared; ``gauging`` (:class:`VisitGauging`) and ``measured_rating``
+    (:class:`MeasuredRating`) when given the records; the ``*_note`` fields say why a part is
+    missing; ``missing`` lists the inputs the discharge still needs.
 
     Examples
     --------
@@ -226,6 +232,10 @@ class VisitAnalysis:
     comparison_note: str = ""
     previous: dict | None = None
     missing: list[str] = field(default_factory=list)
+    gauging: VisitGauging | None = None
+    gauging_note: str = ""
+    measured_rating: MeasuredRating | None = None
+    measured_rating_note: str = ""
 
 
 # --- the analysis -------------------------------------------------------------------------
@@ -265,6 +275,8 @@ def analyse_visit(
     stations: Sequence[Mapping],
     options: AnalysisOptions | None = None,
     earlier: Mapping | None = None,
+    gauging: Mapping | None = None,
+    measurements: Sequence[Mapping] | None = None,
 ) -> VisitAnalysis:
     """Run the office analysis of one visit.
 
@@ -279,6 +291,11 @@ def analyse_visit(
         The person's choices (n, slope, water level ...); defaults when None.
     earlier : dict, optional
         ``{"visit": dict, "stations": list}`` to compare with (see :func:`earlier_visit`).
+    gauging : dict, optional
+        The visit's gauging records (:meth:`stakeline.store.Store.gauging`).
+    measurements : list of dict, optional
+        The section's measured discharges (:func:`stakeline.measurements.section_measurements`)
+        for the measured rating; this visit's own replaces one of the same ``visit``.
 
     Returns
     -------
@@ -340,7 +357,37 @@ def analyse_visit(
     _rating(result, n, options)
     if earlier:
         _comparison(result, earlier)
+    if gauging and (gauging.get("verticals") or gauging.get("water_surface")):
+        _gauging(result, gauging)
+    if measurements is not None:
+        _measured_rating(result, measurements, visit, options)
     return result
+
+
+def _gauging(result: VisitAnalysis, gauging: Mapping) -> None:
+    """The visit's gauging at its water level (a note, not an error, when it cannot be had)."""
+    try:
+        if result.stage is None:
+            raise SurveyError("the visit has no water level")
+        result.gauging = visit_gauging(
+            result.section, result.stage, gauging, result.unit, precision=result.precision
+        )
+    except SurveyError as exc:
+        result.gauging_note = f"No gauging figures: {exc}"
+
+
+def _measured_rating(result: VisitAnalysis, measurements, visit: Mapping, options) -> None:
+    """The section's rating fitted to its gauged visits, this one included."""
+    own = result.gauging.measurement() if result.gauging is not None else None
+    rows = [m for m in measurements if m.get("visit") != visit.get("uuid")]
+    rows += [{**own, "visit": visit.get("uuid"), "date": visit.get("date")}] if own else []
+    try:
+        result.measured_rating = measured_rating(
+            rows, result.section, result.unit,
+            offset=options.rating_offset, fit_offset=options.fit_offset,
+        )  # fmt: skip
+    except SurveyError as exc:
+        result.measured_rating_note = f"No measured rating: {exc}"
 
 
 def _choose_n(options: AnalysisOptions) -> tuple[float | None, RoughnessRow | None]:

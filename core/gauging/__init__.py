@@ -6,7 +6,10 @@ discharge by the velocity-area method (:mod:`~stakeline.gauging.discharge`), fie
 estimator (:mod:`~stakeline.gauging.uncertainty`), water-surface slope
 (:mod:`~stakeline.gauging.slope`), Manning's n back-calculated (:mod:`~stakeline.gauging.calibrate`)
 and the stage-discharge rating fitted to measurements (:mod:`~stakeline.gauging.measured_rating`);
-:func:`analyse_gauging` runs the first four in one call.  Lengths in the survey unit.  numpy only:
+:func:`analyse_gauging` runs the first four in one call, :func:`visit_gauging` all of them on a
+visit's records (:mod:`~stakeline.gauging.visit`) and :func:`measured_rating` fits a section's
+rating to its visits' measurements with the Manning extension
+(:mod:`~stakeline.gauging.section_rating`).  Lengths in the survey unit.  numpy only:
 no UI, no SQL.  Import everything from here.
 """
 
@@ -26,6 +29,7 @@ from stakeline.gauging.findings import (
     wading_findings,
 )
 from stakeline.gauging.measured_rating import RatingCurve, RatingFit, fit_rating, rating_curve
+from stakeline.gauging.section_rating import MeasuredRating, measured_rating
 from stakeline.gauging.slope import WaterSurfaceSlope, water_surface_slope
 from stakeline.gauging.uncertainty import (
     MeasurementUncertainty,
@@ -45,6 +49,7 @@ from stakeline.gauging.vertical import (
     profile_ratio,
     suggested_method,
 )
+from stakeline.gauging.visit import VisitGauging, visit_gauging
 
 __all__ = [
     "CAUTION",
@@ -61,10 +66,12 @@ __all__ = [
     "GaugingError",
     "GaugingSettings",
     "GaugingUnit",
+    "MeasuredRating",
     "MeasurementUncertainty",
     "MeterRating",
     "RatingCurve",
     "RatingFit",
+    "VisitGauging",
     "WaterSurfaceSlope",
     "analyse_gauging",
     "calibrate_n",
@@ -75,6 +82,7 @@ __all__ = [
     "ive_uncertainty",
     "manning_n",
     "mean_velocity",
+    "measured_rating",
     "method_for_points",
     "normal_velocity",
     "profile_ratio",
@@ -83,6 +91,7 @@ __all__ = [
     "suggested_method",
     "velocity_area",
     "verticals_from_section",
+    "visit_gauging",
     "wading_findings",
     "water_surface_slope",
 ]

@@ -258,9 +258,10 @@ class Store:
 
     # -- demo data ----------------------------------------------------------------------------
     def load_demo(self, json_path: str | os.PathLike | None = None) -> list[dict]:
-        """Load the invented demo survey (finished visits with their water levels) in one
-        transaction; returns the created visits as :meth:`visit` dicts.  Each visit is marked
-        ``settings["demo"] = True`` so that the app never sends it to the office."""
+        """Load the invented demo survey (finished visits with their water levels, and the
+        gaugings of the riffle's visits with the demo's meters) in one transaction; returns the
+        created visits as :meth:`visit` dicts.  Each visit is marked ``settings["demo"] = True``
+        so that the app never sends it to the office."""
         path = DEMO_PATH if json_path is None else Path(json_path)
         try:
             demo = json.loads(Path(path).read_text(encoding="utf-8"))
@@ -269,6 +270,8 @@ class Store:
             raise StoreError(f"cannot read the demo survey {path}: {exc}") from None
         created = []
         with self.transaction():
+            meters = {spec["serial"]: self.add_meter(**spec)["uuid"]
+                      for spec in demo.get("meters", ())}  # fmt: skip
             site_record = self.create_site(site["name"], site.get("stream", ""),
                                            site.get("description", ""))  # fmt: skip
             for spec in demo["sections"]:
@@ -280,10 +283,10 @@ class Store:
                     benchmark_assumed=benchmark.get("assumed", False),
                 )  # fmt: skip
                 for visit in spec["visits"]:
-                    created.append(self._load_demo_visit(section["uuid"], visit))
+                    created.append(self._load_demo_visit(section["uuid"], visit, meters))
         return [self.visit(uuid) for uuid in created]
 
-    def _load_demo_visit(self, section_uuid: str, spec: dict) -> str:
+    def _load_demo_visit(self, section_uuid: str, spec: dict, meters: dict[str, str]) -> str:
         with self.as_device(spec.get("device") or self.device_id):
             visit = self.start_visit(
                 section_uuid, spec["date"], spec.get("crew", ()), spec.get("unit", "m"),
@@ -296,5 +299,22 @@ class Store:
                 self.save_station(visit["uuid"], point["station"], point["reading"],
                                   point.get("code", ""), point.get("note", ""))  # fmt: skip
             self.update_visit(visit["uuid"], settings={"demo": True})  # invented: never sent
+            self._load_demo_gauging(visit["uuid"], spec.get("gauging"), meters)
             self.finish_visit(visit["uuid"])
         return visit["uuid"]
+
+    def _load_demo_gauging(self, visit_uuid: str, spec: dict | None, meters: dict) -> None:
+        if not spec:
+            return
+        if spec.get("settings"):
+            self.set_gauging_settings(visit_uuid, **spec["settings"])
+        for vertical in spec.get("verticals", ()):
+            serial = vertical.get("meter", spec.get("meter"))
+            self.save_velocity(
+                visit_uuid, vertical["station"], vertical["method"], vertical["points"],
+                meter_uuid=meters[serial] if serial else None, angle=vertical.get("angle"),
+                depth=vertical.get("depth"), note=vertical.get("note", ""),
+            )  # fmt: skip
+        for point in spec.get("water_surface", ()):
+            self.add_water_surface_point(visit_uuid, point["distance"], point["elevation"],
+                                         point.get("note", ""))  # fmt: skip
