@@ -97,7 +97,7 @@ def test_commands_work_from_another_folder(installed):
     assert "Commands:" in run([stakeline, "--help"], work).stdout
     assert "demo visits" in run([stakeline, "demo", "--store", "x.db"], work).stdout
     visits = json.loads(run([stakeline, "visits", "--store", "x.db", "--json"], work).stdout)
-    assert len(visits) == 3
+    assert len(visits) == 6
     demo_csv = run([venv / "bin" / "python", "-c", "from importlib.resources import files; "
                     "print(files('stakeline.demo_data') / 'xs1_2026-04-14.csv')"], work)  # fmt: skip
     path = demo_csv.stdout.strip()

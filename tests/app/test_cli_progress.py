@@ -79,7 +79,8 @@ def test_pack_import_and_report_show_a_bar_only_on_a_terminal(field):
         assert code == 0 and "Traceback" not in err
         assert out == piped[name][1]  # stdout unchanged by the bar
         label = {"pack": "packing", "import": "importing", "report": "report"}[name]
-        assert label in err and "[" in err and "#" in err and "3/3" in err, err
-    assert [line.split()[0] for line in piped["pack"][1].splitlines()] == ["written"] * 3
+        steps = {"pack": "6/6", "import": "6/6", "report": "3/3"}[name]  # visits; report steps
+        assert label in err and "[" in err and "#" in err and steps in err, err
+    assert [line.split()[0] for line in piped["pack"][1].splitlines()] == ["written"] * 6
     assert all("imported visit" in line for line in piped["import"][1].splitlines())
     assert piped["report"][1] == "wrote r-TAG.png\n"

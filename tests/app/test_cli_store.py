@@ -48,19 +48,22 @@ def test_every_store_command_has_help():
 def test_demo_then_visits_json(tmp_path, capsys):
     store = tmp_path / "demo.db"
     code, out, _ = _run(capsys, "demo", "--store", store)
-    assert code == 0 and "3 demo visits" in out
+    assert code == 0 and "6 demo visits" in out
     code, out, _ = _run(capsys, "visits", "--store", store, "--json")
     rows = json.loads(out)
-    assert code == 0 and len(rows) == 3
+    assert code == 0 and len(rows) == 6
     assert all(set(r) == {"uuid", "site", "section", "date", "station_count", "finished"}
                for r in rows)  # fmt: skip
     assert [(r["section"], r["date"], r["station_count"]) for r in rows] == [
         ("XS1 riffle", "2026-04-14", 33),
         ("XS2 pool", "2026-04-14", 29),
         ("XS1 riffle", "2026-09-22", 35),
+        ("XS1 riffle", "2026-11-10", 35),
+        ("XS1 riffle", "2027-02-16", 35),
+        ("XS1 riffle", "2027-05-25", 35),
     ]
     code, out, _ = _run(capsys, "visits", "--store", store)
-    assert code == 0 and out.count("finished") == 3
+    assert code == 0 and out.count("finished") == 6
 
 
 @pytest.mark.parametrize(
@@ -87,16 +90,16 @@ def test_pack_import_round_trip_and_exit_codes(tmp_path, capsys):
     field, office, outbox = tmp_path / "field.db", tmp_path / "office.db", tmp_path / "out"
     _run(capsys, "demo", "--store", field)
     code, out, _ = _run(capsys, "pack", "--store", field, "--outbox", outbox)
-    assert code == 0 and out.count("written") == 3
+    assert code == 0 and out.count("written") == 6
     code, out, _ = _run(capsys, "pack", "--store", field, "--outbox", outbox)
-    assert code == 0 and out.count("unchanged") == 3
+    assert code == 0 and out.count("unchanged") == 6
     files = sorted(outbox.iterdir())
     _trust(office, field)
     code, out, _ = _run(capsys, "import", *files, "--into", office, "--json")
     results = json.loads(out)
-    assert code == 0 and [r["status"] for r in results] == ["imported"] * 3
+    assert code == 0 and [r["status"] for r in results] == ["imported"] * 6
     code, out, _ = _run(capsys, "import", outbox, "--into", office)
-    assert code == 0 and out.count("already imported") == 3 and len(out.splitlines()) == 3
+    assert code == 0 and out.count("already imported") == 6 and len(out.splitlines()) == 6
     damaged = tmp_path / "damaged.stakeline-visit.json"
     data = bytearray(files[0].read_bytes())
     data[len(data) // 2] ^= 0x10
@@ -160,4 +163,4 @@ def test_real_command_process(tmp_path):
     assert done.returncode == 1 and done.stderr == ""
     assert "junk.stakeline-visit.json: rejected: not a Stakeline visit package" in done.stdout
     listed = run("visits", "--store", tmp_path / "office.db", "--json")
-    assert len(json.loads(listed.stdout)) == 3
+    assert len(json.loads(listed.stdout)) == 6

@@ -80,20 +80,20 @@ def test_untrusted_device_is_held_not_merged_then_merges_once_trusted(field, off
     pack_visits(field, tmp_path / "out")
     before = _dump(office)
     results = import_files(office, [tmp_path / "out"])
-    assert [r["status"] for r in results] == ["held"] * 3
+    assert [r["status"] for r in results] == ["held"] * 6
     assert all("does not trust" in r["message"] and "\n" not in r["message"] for r in results)
     assert _dump(office) == before  # nothing merged
     held = office.held_packages()
-    assert len(held) == 3 and {h["fingerprint"] for h in held} == {
+    assert len(held) == 6 and {h["fingerprint"] for h in held} == {
         fingerprint(field.device_key()["public_key"])
     }
     assert office.visits() == []
     # Importing the same files again without trust: still held, not duplicated.
     assert {r["status"] for r in import_files(office, [tmp_path / "out"])} == {"held"}
-    assert len(office.held_packages()) == 3
+    assert len(office.held_packages()) == 6
     trust(office, field)
-    assert [r["status"] for r in retry_held(office)] == ["imported"] * 3
-    assert office.held_packages() == [] and len(office.visits()) == 3
+    assert [r["status"] for r in retry_held(office)] == ["imported"] * 6
+    assert office.held_packages() == [] and len(office.visits()) == 6
     visit = field.visits()[0]["uuid"]
     signer = office.visit_signer(visit)
     assert signer["device"] == "tablet-A" and signer["trusted_by"] == "test office"

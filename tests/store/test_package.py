@@ -59,15 +59,11 @@ def _one(outbox: Path, section: str = "xs2-pool") -> Path:
 
 def test_survey_arrives_whole_in_the_office(field, office, outbox):
     results = import_files(office, [outbox])
-    assert [r["status"] for r in results] == ["imported"] * 3
+    assert [r["status"] for r in results] == ["imported"] * 6
     field.correct_station(field.stations(field.visits()[0]["uuid"])[3]["uuid"], reading=0.6)
     field.add_override(field.visits()[0]["uuid"], "spike", 1.5, "re-read, bed is rocky")
     pack_visits(field, outbox)
-    assert [r["status"] for r in import_files(office, [outbox])] == [
-        "updated",
-        "present",
-        "present",
-    ]
+    assert [r["status"] for r in import_files(office, [outbox])] == ["updated"] + ["present"] * 5
     assert office.sites() == field.sites()
     assert office.sections() == field.sections()
     for visit in field.visits():

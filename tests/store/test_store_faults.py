@@ -34,7 +34,7 @@ OPENER = Path(__file__).with_name("store_opener.py")
 
 @pytest.fixture
 def synced(tmp_path):
-    """(office path, outbox): an office store holding the three demo visits, closed."""
+    """(office path, outbox): an office store holding the six demo visits, closed."""
     with Store.open(tmp_path / "field.db", device_id="tablet-A") as field:
         field.load_demo()
         pack_visits(field, tmp_path / "outbox")
@@ -91,10 +91,10 @@ def test_damaged_office_store_is_refused_before_import_and_salvaged(synced, tmp_
     assert report["check"] == "ok"
     versions = report["tables"]["station_versions"]
     assert versions["copied"] > 0 and versions["unreadable"] > 0
-    assert report["tables"]["visits"]["copied"] == 3
+    assert report["tables"]["visits"]["copied"] == 6
     with Store.open(tmp_path / "saved.db") as saved:
         assert saved.integrity_check() == "ok"
-        assert len(saved.visits()) == 3 and saved.stations(saved.visits()[0]["uuid"])
+        assert len(saved.visits()) == 6 and saved.stations(saved.visits()[0]["uuid"])
     with pytest.raises(StoreError, match="already exists"):
         salvage(office, tmp_path / "saved.db")
 
@@ -192,7 +192,7 @@ def test_read_only_file_system_still_reads(synced, tmp_path):
         assert done.returncode == 0
         with Store.open(mount / "office.db", readonly=True) as store:
             visits = store.visits()
-            assert len(visits) == 3 and store.stations(visits[0]["uuid"])
+            assert len(visits) == 6 and store.stations(visits[0]["uuid"])
             with pytest.raises(StoreReadOnlyError, match="read-only"):
                 store.set_setting("unit", "ft")
         with pytest.raises(StoreReadOnlyError) as info:
@@ -206,7 +206,7 @@ def test_readonly_open_changes_nothing(synced):
     office, _ = synced
     before = _digest(office)
     with Store.open(office, readonly=True) as store:
-        assert store.readonly and len(store.visits()) == 3
+        assert store.readonly and len(store.visits()) == 6
         with pytest.raises(StoreError, match="read-only"):
             store.create_site("new")
     assert _digest(office) == before
@@ -307,5 +307,5 @@ def test_import_commits_in_batches_by_size(synced, tmp_path):
             assert len(commits) == 2
             results += import_files(store, files[2:] + files[:2])  # one batch
             store.conn.set_trace_callback(None)
-    assert [r["status"] for r in results] == ["imported"] * 3 + ["present"] * 2
+    assert [r["status"] for r in results] == ["imported"] * 6 + ["present"] * 2
     assert len(commits) == 3
