@@ -28,7 +28,7 @@ from stakeline.store.columns import (
     check_velocity,
     check_water_surface,
 )
-from stakeline.store.values import METHODS, TEXT_LIMIT, StoreError, iso_date
+from stakeline.store.values import METHODS, TEXT_LIMIT, StoreError, canonical_json, iso_date
 from stakeline.survey.reduction import UNITS
 
 MAX_ROWS = 20_000
@@ -256,6 +256,10 @@ def check_records(records: Any, visit_uuid: str, gauging: bool | None = True) ->
         raise PackageError("its site, section and visit do not belong together")
     if visit["uuid"] != visit_uuid:
         raise PackageError("its manifest names a different visit than its records")
+    try:  # the settings hold the gauging's: the store's own rule for them
+        check_columns("visits", {"settings": canonical_json(visit["settings"])})
+    except StoreError as exc:
+        raise PackageError(f"visit has bad settings: {exc}") from None
     owners = {site["uuid"]: "sites", section["uuid"]: "sections", visit["uuid"]: "visits"}
     seen = set(owners)
     meters: set[str] = set()

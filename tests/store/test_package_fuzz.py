@@ -14,6 +14,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from stakeline.store import Store, StoreError
 from stakeline.store.package import (
+    FORMAT,
     PackageError,
     import_file,
     pack_visits,
@@ -78,7 +79,7 @@ def _forged(records: dict, visit: str, key) -> bytes:
     Stakeline's own writer only ever packs records of its store): canonical JSON, signed with
     ``sha256`` and ``signature`` blanked, then the checksum over the signed text."""
     manifest = {"created": "2026-04-15T08:00:00+00:00", "device": "tablet-F",
-                "format": "stakeline-visit/2", "key": bytes(key.verify_key).hex(),
+                "format": FORMAT, "key": bytes(key.verify_key).hex(),
                 "sha256": "0" * 64, "signature": "0" * 128, "visit": visit}  # fmt: skip
 
     def text() -> bytes:
