@@ -40,7 +40,9 @@ METHOD_WORDS = {
 
 def draw_pages(data: ReportData) -> list[Figure]:
     """All pages of the report, in order."""
-    pages = [_summary_page(data), _rating_page(data)]
+    from stakeline.report.gauging_pages import gauging_pages  # it draws with this module's tools
+
+    pages = [_summary_page(data), _rating_page(data), *gauging_pages(data)]
     if data.comparison is not None:
         pages.append(_comparison_page(data))
     pages += _station_pages(data)

@@ -16,6 +16,7 @@ from stakeline.analysis import AnalysisOptions, analyse_visit, nice_step  # noqa
 from stakeline.checks.review import flagged_stations
 from stakeline.errors import SurveyError
 from stakeline.files.durable import atomic_path
+from stakeline.gauging import MeasuredRating, VisitGauging
 from stakeline.survey.roughness import RoughnessRow
 from stakeline.survey.uncertainty import Precision
 
@@ -67,6 +68,10 @@ class ReportData:
     notes: list[str] = field(default_factory=list)
     method: str = "linear"
     stage_source: str = ""
+    gauging: VisitGauging | None = None
+    gauging_note: str = ""
+    measured_rating: MeasuredRating | None = None
+    measured_rating_note: str = ""
 
 
 def prepare_report(
@@ -76,6 +81,8 @@ def prepare_report(
     findings: Sequence[dict] | None = (),
     overrides: Sequence[dict] = (),
     previous: dict | None = None,
+    gauging: dict | None = None,
+    measurements: Sequence[dict] | None = None,
 ) -> ReportData:
     """Run the office analysis of one visit into :class:`ReportData`.
 
@@ -84,7 +91,9 @@ def prepare_report(
     earlier visit of the same section as ``{"visit": dict, "stations": list}`` for comparison
     (see :func:`stakeline.analysis.earlier_visit`).  ``findings`` of None means the field checks
     could not be run (the report says so); flagged stations follow
-    :func:`stakeline.checks.flagged_stations`.
+    :func:`stakeline.checks.flagged_stations`.  ``gauging`` (the visit's gauging records) and
+    ``measurements`` (the section's measured discharges) add the gauging pages: see
+    :func:`stakeline.analysis.analyse_visit`.
 
     Examples
     --------
@@ -94,7 +103,7 @@ def prepare_report(
     >>> data.title, data.bands["area"].value, data.missing
     ('Demo — XS', 1.0, [])
     """
-    result = analyse_visit(visit, stations, options, previous)
+    result = analyse_visit(visit, stations, options, previous, gauging, measurements)
     notes = [n for n in (result.bankfull_note, result.comparison_note if previous else "") if n]
     return ReportData(
         title=f"{visit.get('site', '')} — {visit.get('section', '')}",
@@ -123,6 +132,10 @@ def prepare_report(
         notes=notes,
         method=result.method,
         stage_source=result.stage_source,
+        gauging=result.gauging,
+        gauging_note=result.gauging_note,
+        measured_rating=result.measured_rating,
+        measured_rating_note=result.measured_rating_note,
     )
 
 
