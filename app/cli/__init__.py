@@ -29,6 +29,7 @@ COMMAND_MODULES = (
     "stakeline.app.cli.gauging",
     "stakeline.app.cli.custody",
     "stakeline.app.cli.figures",
+    "stakeline.app.cli.ratings",
 )
 """Modules that add commands to :data:`cli`, in the order ``stakeline --help`` lists them."""
 
