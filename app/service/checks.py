@@ -2,7 +2,9 @@
 
 :class:`FieldChecks` reads what :func:`stakeline.checks.review` needs from the store on the UI thread
 (one quick read), runs the review on the worker thread, and marks the findings the crew has
-overridden with a written reason.
+overridden with a written reason.  A visit with velocities read is checked at finishing like its
+depth readings: the gauging's findings (:func:`stakeline.app.service.gauging.gauging_review`)
+join the review.
 """
 
 from __future__ import annotations
@@ -17,6 +19,15 @@ META_KEYS = (
     "origin",
 )
 """Visit fields the field checks read (line heights, and where the stakes are on the tape)."""
+
+
+def _gauging_inputs(store, visit_uuid: str, readings: list[dict]) -> dict | None:
+    """The gauging's inputs for the review, or None when no velocity was read."""
+    if not store.velocities(visit_uuid):
+        return None
+    from stakeline.app.service.gauging import gauging_inputs
+
+    return gauging_inputs(store, visit_uuid, readings)
 
 
 class FieldChecks:
@@ -55,22 +66,27 @@ class FieldChecks:
                 "planned": self.plan(visit_uuid),
                 "read": [r["station"] for r in self.readings(visit_uuid)],
             },  # fmt: skip
+            "gauging": _gauging_inputs(self.store, visit_uuid, self.readings(visit_uuid)),
         }
 
     @staticmethod
     def run_review(inputs: dict) -> list[dict]:
         """Run the field checks on :meth:`review_inputs` (pure: safe on a worker thread)."""
+        from stakeline.app.service.gauging import gauging_review
         from stakeline.checks import SEVERITIES, review
         from stakeline.checks.plan import plan_findings
 
         inputs = dict(inputs)
         plan = inputs.pop("plan", None)
+        gauging = gauging_review(inputs.pop("gauging", None))
         findings = review(**inputs)
         if plan is not None:
             unit = inputs["meta"]["unit"]
             findings += plan_findings(plan["planned"], plan["read"], unit)
-            findings.sort(key=lambda f: SEVERITIES.index(f.severity))  # stable: by station within
-        return [finding.as_dict() for finding in findings]
+        found = [finding.as_dict() for finding in findings] + gauging
+        return sorted(
+            found, key=lambda f: SEVERITIES.index(f["severity"])
+        )  # stable: by station within
 
     def review(self, visit_uuid: str) -> list[dict]:
         """Field-check findings of the visit (dicts: kind, severity, station, message,

@@ -68,7 +68,7 @@ class MeasuredRating:
         ``offset_source``, ``standard_error`` (log units), ``standard_error_percent``,
         ``exponent_error``, ``low``/``high`` (measured stages), ``cautions``,
         ``poorly_determined``, ``measurements`` (visit, date, stage, discharge,
-        departure_percent, plus_minus, n, slope), ``extension`` (n, slope, visit, date,
+        departure_percent, plus_minus, n, n_plus_minus, slope), ``extension`` (n, slope, visit, date,
         from_stage, stages, discharges, junction_ratio; None without a calibrated n),
         ``extension_note``, ``curve`` (stages, discharges, source) and ``unit``."""
         fit = self.fit.as_dict()
@@ -80,7 +80,8 @@ class MeasuredRating:
         out["measurements"] = [
             {"visit": m.get("visit"), "date": m.get("date"), "stage": m["stage"],
              "discharge": m["discharge"], "departure_percent": m["departure"],
-             "plus_minus": m.get("plus_minus"), "n": m.get("n"), "slope": m.get("slope")}
+             "plus_minus": m.get("plus_minus"), "n": m.get("n"),
+             "n_plus_minus": m.get("n_plus_minus"), "slope": m.get("slope")}
             for m in self.measurements
         ]  # fmt: skip
         curve = self.curve.as_dict()

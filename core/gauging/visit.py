@@ -296,7 +296,16 @@ def _measure(section, stage, observations, gauging, unit, settings):
     return method, coefficient, tuple(rows), analysis
 
 
-def _slope(points: Sequence[Mapping], unit: str) -> tuple[WaterSurfaceSlope | None, str]:
+def surface_slope(points: Sequence[Mapping], unit: str) -> tuple[WaterSurfaceSlope | None, str]:
+    """The water-surface slope through a visit's points (store dicts with ``distance`` and
+    ``elevation``; removed ones left out), or None, and a note saying why not (or why it is
+    of no use for n).
+
+    >>> s, note = surface_slope([{"distance": -20, "elevation": 100.08},
+    ...                          {"distance": 20, "elevation": 99.92}], "m")
+    >>> round(s.slope, 6), note
+    (0.004, '')
+    """
     live = [p for p in points or () if not p.get("removed")]
     if len(live) < 2:
         return None, (
@@ -341,6 +350,7 @@ def visit_gauging(
     *,
     precision: Precision | None = None,
     settings: GaugingSettings | Mapping | None = None,
+    calibrate: bool = True,
 ) -> VisitGauging:
     """The gauging of a visit on ``section`` at water level ``stage`` (survey ``unit``).
 
@@ -349,7 +359,8 @@ def visit_gauging(
     meter_uuid, angle, depth, note...), ``meters`` (the visit's meter records) and
     ``water_surface`` (points with distance and elevation).  ``precision`` is the crew's ± of a
     reading and a station (for the ± of n; default the unit's); ``settings`` the limits of the
-    gauging checks (:class:`GaugingSettings` or overrides).  Raises
+    gauging checks (:class:`GaugingSettings` or overrides); ``calibrate=False`` leaves n out
+    (the live velocity step: n is an office figure and its ± takes the most time).  Raises
     :class:`~stakeline.gauging.units.GaugingError` when the section is dry at ``stage`` or a
     record cannot be used.
 
@@ -369,8 +380,10 @@ def visit_gauging(
     method, coefficient, rows, analysis = _measure(
         section, stage, observations, gauging, unit, checks
     )
-    slope, slope_note = _slope(gauging.get("water_surface") or (), unit)
+    slope, slope_note = surface_slope(gauging.get("water_surface") or (), unit)
     precision = precision or Precision.default(unit)
-    calibrated, n_note = _calibrate(section, stage, analysis, slope, unit, precision)
+    calibrated, n_note = None, "n is calibrated in the office figures"
+    if calibrate:
+        calibrated, n_note = _calibrate(section, stage, analysis, slope, unit, precision)
     return VisitGauging(unit, stage, method, coefficient, rows, analysis, slope, slope_note,
                         calibrated, n_note)  # fmt: skip
