@@ -73,9 +73,11 @@ def gauging_unit(unit: str) -> GaugingUnit:
     Every module of the gauging package takes its unit constants from here (unknown units are
     refused with the survey's own message).
     """
+    if isinstance(unit, str) and unit in _MADE:
+        return _MADE[unit]
     name = check_unit(unit)
     metres = UNITS[name]
-    return GaugingUnit(
+    made = _MADE[name] = GaugingUnit(
         name=name,
         metres=metres,
         manning_k=MANNING_K[name],
@@ -88,6 +90,10 @@ def gauging_unit(unit: str) -> GaugingUnit:
         discharge=f"{name}³/s",
         product=f"{name}²/s",
     )
+    return made
+
+
+_MADE: dict[str, GaugingUnit] = {}  # the constants of each unit, made once
 
 
 def plain(value) -> float | None:

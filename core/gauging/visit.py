@@ -164,21 +164,31 @@ def _observations(gauging: Mapping) -> list[dict]:
     return sorted(by_station.values(), key=lambda v: float(v["station"]))
 
 
-def _point_velocities(obs: Mapping, meters: Mapping, unit: str) -> dict[str, float]:
-    """Velocity (unit/s) at each point read, revolutions through the meter's rating."""
-    out = {}
-    for name, reading in (obs.get("points") or {}).items():
-        if "velocity" in reading:
-            out[name] = float(reading["velocity"])
-            continue
-        meter = meters.get(obs.get("meter_uuid"))
-        if meter is None or not meter[1]:
-            raise GaugingError(
-                f"station {at_station(obs['station'], unit)}: revolutions at {name} but no "
-                "rotating meter recorded with the visit to turn them into a velocity",
-                station=float(obs["station"]),
+def _point_velocities(at: list, meters: Mapping, unit: str) -> list[dict[str, float]]:
+    """Velocity (unit/s) at each point read at each vertical; revolutions go through their
+    meter's rating, all the counts of one meter in one call."""
+    out: list[dict[str, float]] = [{} for _ in at]
+    counted: dict[str, list] = {}
+    for i, obs in enumerate(at):
+        for name, reading in ((obs or {}).get("points") or {}).items():
+            if "velocity" in reading:
+                out[i][name] = float(reading["velocity"])
+                continue
+            meter = meters.get(obs.get("meter_uuid"))
+            if meter is None or not meter[1]:
+                raise GaugingError(
+                    f"station {at_station(obs['station'], unit)}: revolutions at {name} but no "
+                    "rotating meter recorded with the visit to turn them into a velocity",
+                    station=float(obs["station"]),
+                )
+            counted.setdefault(obs["meter_uuid"], []).append(
+                (i, name, reading["revolutions"], reading["seconds"])
             )
-        out[name] = float(meter[0].velocity(reading["revolutions"], reading["seconds"], unit))
+    for uuid, rows in counted.items():
+        revolutions, seconds = [r[2] for r in rows], [r[3] for r in rows]
+        speeds = np.atleast_1d(meters[uuid][0].velocity(revolutions, seconds, unit))
+        for (i, name, _, _), speed in zip(rows, speeds.tolist(), strict=True):
+            out[i][name] = speed
     return out
 
 
@@ -269,13 +279,13 @@ def _measure(section, stage, observations, gauging, unit, settings):
     rows, mean, angles = [], np.full(x.size, np.nan), np.zeros(x.size)
     points = {name: np.full(x.size, np.nan) for name in POINTS}
     per_meter: dict[str, tuple] = {}
+    speeds = _point_velocities(at, meters, unit)
     for i, obs in enumerate(at):
         source = "section" if d[i] > 0 or 0 < i < x.size - 1 else "edge"
-        read: dict[str, float] = {}
+        read = speeds[i]
         if obs is not None:
             if obs.get("depth") is not None:
                 d[i], source = float(obs["depth"]), "rod"
-            read = _point_velocities(obs, meters, unit)
             wanted = {n: read.get(n, math.nan) for n in VERTICAL_METHODS[obs["method"]]}
             mean[i] = mean_velocity(obs["method"], wanted, coefficient)
             angles[i] = obs.get("angle") or 0.0
