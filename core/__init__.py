@@ -3,7 +3,9 @@
 The names a script needs are importable from here; each lives in one module of a subpackage by
 concept -- ``stakeline.survey`` (units, feature codes, figure names, numbers, the datum and
 reduction, geometry, hydraulics, rating, comparison, uncertainty, roughness),
-``stakeline.checks`` (field checks), ``stakeline.analysis`` (the office analysis of a visit),
+``stakeline.checks`` (field checks), ``stakeline.gauging`` (the discharge measured at the
+stations, the calibrated n and measured ratings), ``stakeline.analysis`` (the office analysis of
+a visit),
 ``stakeline.store`` (the SQLite store and visit packages), ``stakeline.report`` (office
 reports) and ``stakeline.files`` (section CSV files and exports); the touch app and the command
 line live in ``stakeline.app``.  Importing ``stakeline`` is cheap: a name's module is imported
@@ -94,6 +96,10 @@ _HOMES = {
     "VisitAnalysis": "stakeline.analysis",
     "earlier_visit": "stakeline.analysis",
     "visit_water_level": "stakeline.analysis",
+    # gauging: the discharge measured at the stations, and the rating it gives
+    "visit_gauging": "stakeline.gauging",
+    "measured_rating": "stakeline.gauging",
+    "section_measurements": "stakeline.measurements",
     "prepare_report": "stakeline.report",
     "write_report": "stakeline.report",
     # files and the store

@@ -88,6 +88,15 @@ def section_measurements(
     Visits in another length ``unit`` than the one given are left out (a rating is fitted in
     one unit); so are visits without a usable measurement, unless ``everything`` is true (then
     they come with ``discharge`` None and a ``note``).  Dicts as :func:`visit_measurement`.
+
+    Examples
+    --------
+    >>> from stakeline.store import Store
+    >>> store = Store.memory()
+    >>> riffle = next(v for v in store.load_demo() if v["section"] == "XS1 riffle")
+    >>> [m["date"] for m in section_measurements(store, riffle["section_uuid"])][:2]
+    ['2026-04-14', '2026-09-22']
+    >>> store.close()
     """
     out = []
     for listed in gauged_visits(store, section_uuid):

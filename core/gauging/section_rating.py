@@ -137,6 +137,8 @@ def measured_rating(
     section's lowest point.  Raises :class:`~stakeline.gauging.units.GaugingError` with fewer
     than three measurements (four to fit e) or a measurement at or below e.
 
+    Examples
+    --------
     >>> ground = Section([0, 0, 4, 4], [102.0, 99.0, 99.0, 102.0])
     >>> pairs = [{"stage": 99.0 + h, "discharge": 4 * h**1.5} for h in (0.4, 0.6, 0.9, 1.2)]
     >>> r = measured_rating(pairs, ground)

@@ -374,6 +374,8 @@ def visit_gauging(
     :class:`~stakeline.gauging.units.GaugingError` when the section is dry at ``stage`` or a
     record cannot be used.
 
+    Examples
+    --------
     >>> ground = Section([0, 0, 4, 4], [101.0, 99.0, 99.0, 101.0])
     >>> read = [{"station": s, "method": "one-point", "points": {"v06": {"velocity": 0.5}}}
     ...         for s in (0, 1, 2, 3, 4)]
