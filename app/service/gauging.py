@@ -77,6 +77,8 @@ def _gauge(inputs: dict, calibrate: bool = False):
 
 
 def _vertical_view(row: dict, raw: dict | None, panel: dict | None, wading: dict) -> dict:
+    from stakeline.gauging import VERTICAL_METHODS
+
     points = {}
     for name, velocity in row["points"].items():
         reading = (raw or {}).get("points", {}).get(name, {})
@@ -102,6 +104,9 @@ def _vertical_view(row: dict, raw: dict | None, panel: dict | None, wading: dict
         },  # fmt: skip
         "uuid": row["observation"],
         "method": row["vertical_method"],
+        "needed": list(VERTICAL_METHODS[row["vertical_method"] or row["suggested_method"]])
+        if row["depth"] > 0
+        else [],
         "points": points,
         "read": state,
         "wet": row["depth"] > 0,
@@ -115,7 +120,8 @@ def gauging_view(inputs: dict) -> dict:
     """The live state of a visit's gauging from :func:`gauging_inputs` (pure).
 
     Keys: ``unit``, ``stage``, ``stage_source``, ``method``, ``surface_coefficient``,
-    ``verticals`` (station, depth, depth_source, suggested_method, uuid, method, points
+    ``verticals`` (station, depth, depth_source, suggested_method, uuid, method, needed (the
+    points its method, or the suggested one, reads), points
     {name: velocity, revolutions, seconds, read}, read: none|partial|complete, wet,
     mean_velocity, angle, velocity, meter, note, discharge, percent (midsection: the vertical's
     panel), wading (its finding or None)), ``panels``, ``discharge`` (so far), ``complete``,
@@ -295,6 +301,12 @@ class GaugingService:
         meter = self._meter_for(visit_uuid, meter_uuid, existing)
         if "revolutions" in reading and meter is None:
             raise ServiceError("choose the meter whose rating turns revolutions into velocity")
+        counted = [n for n, r in points.items() if "revolutions" in r and n != point]
+        if existing is not None and counted and meter != existing["meter_uuid"]:
+            raise ServiceError(
+                f"station {float(station):g} was counted with another meter ({counted[0]}); "
+                "read every point of a vertical with one meter, or remove the vertical first"
+            )
         fields = dict(method=chosen, points=_for_method(points, chosen, point), meter_uuid=meter)
         if existing is None:
             self.store.save_velocity(visit_uuid, float(station), **fields)
@@ -359,11 +371,15 @@ class GaugingService:
         return self.store.meters()
 
     def add_meter(self, serial: str, kind: str = "rotating", a_text: str = "", b_text: str = "",
-                  *, unit: str = "m", split_text: str = "", a_high_text: str = "",
+                  *, unit: str | None = None, split_text: str = "", a_high_text: str = "",
                   b_high_text: str = "", lowest_text: str = "", highest_text: str = "",
                   note: str = "") -> dict:  # fmt: skip
         """Keep a meter on the device from what was typed (rating ``v = a + b·N`` for a
-        rotating meter; optional second line from ``split`` rev/s; rated range in unit/s)."""
+        rotating meter; optional second line from ``split`` rev/s; rated range in unit/s;
+        ``unit`` of its rating, default the device's)."""
+        if unit is None:
+            settings = getattr(self, "settings", None)
+            unit = settings()["unit"] if settings is not None else "m"
         if kind not in METER_KINDS:
             raise ServiceError(f"meter kind must be one of {', '.join(METER_KINDS)}")
         typed = {"a": a_text, "b": b_text, "split": split_text, "a_high": a_high_text,

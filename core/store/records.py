@@ -200,14 +200,14 @@ def _check_edit(row: dict, where: str) -> None:
         raise PackageError(f"{where} does not name the same fields before and after")
 
 
-def _check_meter(row: dict, where: str, meters: set[str]) -> None:
+def _check_meter(row: dict, where: str, meters: dict[str, bool]) -> None:
     try:
         check_meter({name: row[name] for name in METER_FIELDS})
     except StoreError as exc:
         raise PackageError(f"{where} is not a usable meter: {exc}") from None
     if row["meter_uuid"] in meters:
         raise PackageError(f"{where} records a meter the visit already has")
-    meters.add(row["meter_uuid"])
+    meters[row["meter_uuid"]] = row["a"] is not None  # whether it counts revolutions
 
 
 def _check_changed(row: dict, where: str, check, fields) -> None:
@@ -223,12 +223,15 @@ def _check_changed(row: dict, where: str, check, fields) -> None:
         raise PackageError(f"{where} ({row['action']}): {exc}") from None
 
 
-def _check_vertical(row: dict, where: str, meters: set[str]) -> None:
+def _check_vertical(row: dict, where: str, meters: dict[str, bool]) -> None:
     fields = ("station", "method", "points", "meter_uuid", "angle", "depth", "note")
     _check_changed(row, where, check_velocity, fields)
-    if row["action"] != "undo" and row["meter_uuid"] is not None:
-        if row["meter_uuid"] not in meters:
-            raise PackageError(f"{where} names a meter the package does not carry")
+    if row["action"] == "undo" or row["meter_uuid"] is None:
+        return
+    if row["meter_uuid"] not in meters:
+        raise PackageError(f"{where} names a meter the package does not carry")
+    if not meters[row["meter_uuid"]] and any("revolutions" in p for p in row["points"].values()):
+        raise PackageError(f"{where} counts revolutions on a meter that reads velocities")
 
 
 def _check_lists(records: dict, gauging: bool | None) -> tuple[str, ...]:
@@ -262,7 +265,7 @@ def check_records(records: Any, visit_uuid: str, gauging: bool | None = True) ->
         raise PackageError(f"visit has bad settings: {exc}") from None
     owners = {site["uuid"]: "sites", section["uuid"]: "sections", visit["uuid"]: "visits"}
     seen = set(owners)
-    meters: set[str] = set()
+    meters: dict[str, bool] = {}
     for kind in lists:
         rows = records[kind]
         if not isinstance(rows, list) or len(rows) > MAX_ROWS:

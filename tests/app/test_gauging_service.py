@@ -56,6 +56,7 @@ def test_wet_verticals_with_depths_and_the_suggested_method(service, visit):
     # USGS TM 3-A8 (Turnipseed & Sauer 2010; from memory): one point at 0.6 depth below about
     # 0.75 m, two points (0.2 and 0.8) deeper.
     suggested = {v["station"]: v["suggested_method"] for v in state["verticals"] if v["wet"]}
+    assert next(v for v in state["verticals"] if v["station"] == 3)["needed"] == ["v02", "v08"]
     assert suggested == {1: "one-point", 2: "one-point", 3: "two-point", 4: "one-point",
                          5: "one-point"}  # fmt: skip
     assert state["discharge"] == 0 and state["read"] == 0 and state["wet"] == 5
@@ -114,6 +115,13 @@ def test_revolutions_through_the_meter_typed_once(service, visit):
     # The next count uses the same meter without naming it again.
     state = service.save_velocity_point(visit, 4, "v06", revolutions_text="30", seconds_text="40")
     assert next(v for v in state["verticals"] if v["station"] == 4)["meter"] == "R-1"
+    assert meter["unit"] == "m"  # the device's unit
+    other = service.add_meter("R-9", "rotating", "0.01", "0.7")
+    service.save_velocity_point(visit, 3, "v02", revolutions_text="50", seconds_text="40",
+                                method="two-point")  # fmt: skip
+    with pytest.raises(ServiceError, match="one meter"):
+        service.save_velocity_point(visit, 3, "v08", revolutions_text="30", seconds_text="40",
+                                    meter_uuid=other["uuid"])  # fmt: skip
     with pytest.raises(SurveyError, match="b must be positive"):
         service.add_meter("R-2", "rotating", "0.01", "0")
 

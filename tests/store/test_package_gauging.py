@@ -162,6 +162,11 @@ def _first(records, kind):
             "already has",
         ),  # fmt: skip
         (lambda r: r["visit_meters"].clear(), FORMAT, "does not carry"),
+        (
+            lambda r: _first(r, "visit_meters").update(kind="acoustic", a=None, b=None),
+            FORMAT,
+            "counts revolutions on a meter that reads velocities",
+        ),  # fmt: skip
         (lambda r: _first(r, "velocity_versions").update(method="six-point"), FORMAT, "method"),
         (
             lambda r: _first(r, "velocity_versions")["points"].update(v02={"velocity": 1.0}),
