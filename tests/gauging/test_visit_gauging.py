@@ -134,3 +134,18 @@ def test_extension_uses_the_highest_calibrated_n_and_is_flagged():
     assert np.max(without.curve.stages) == pytest.approx(99.9)
     keys = without.as_dict()
     assert keys["extension"] is None and keys["offset_source"] == "the lowest point of the section"
+
+
+def test_the_visits_settings_choose_mean_section_and_the_surface_coefficient():
+    surface = [{"station": s, "method": "surface", "points": {"surface": {"velocity": v}}}
+               for s, v in ((1, 0.4), (2, 0.8), (3, 1.0), (4, 0.8), (5, 0.4))]  # fmt: skip
+    settings = {"method": "meansection", "surface_coefficient": 0.9}
+    g = visit_gauging(V, LEVEL, {"verticals": surface, "settings": settings})
+    assert (g.method, g.surface_coefficient) == ("meansection", 0.9)
+    # Mean-section (ISO 748; USBR Water Measurement Manual): q = (v_i + v_{i+1})/2 ·
+    # (d_i + d_{i+1})/2 · (b_{i+1} − b_i); surface velocity × coefficient (common practice).
+    b = [0.6, 1, 2, 3, 4, 5, 5.4]
+    d = [0, 0.2, 0.6, 1.1, 0.6, 0.2, 0]
+    v = [0, *(0.9 * s for s in (0.4, 0.8, 1.0, 0.8, 0.4)), 0]
+    q = sum((v[i] + v[i + 1]) / 2 * (d[i] + d[i + 1]) / 2 * (b[i + 1] - b[i]) for i in range(6))
+    assert g.discharge.discharge == pytest.approx(q, rel=1e-9)
