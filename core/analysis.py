@@ -6,8 +6,9 @@ returns them, :class:`AnalysisOptions`, and the earlier visit to compare -- and 
 Manning's figures with the discharge at the low and high n of the roughness row, the
 divided-channel subsections, the rating table, the bankfull summary, the change since the
 earlier visit and, given its gauging records, the measured discharge, the slope, the calibrated
-n and the section's measured rating (:mod:`stakeline.gauging`).  The office report (:func:`stakeline.report.prepare_report`), the tablet's office
-figures and the command line all show this one result, so they show the same numbers.
+n and the section's measured rating (:mod:`stakeline.gauging`).  The office report
+(:func:`stakeline.report.prepare_report`), the tablet's office figures and the command line
+all show this one result, so they show the same numbers.
 
 Two written policies decide what a visit's figures are about:
 
@@ -36,7 +37,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 from stakeline.errors import SurveyError
-from stakeline.gauging import MeasuredRating, VisitGauging, measured_rating, visit_gauging
+from stakeline.gauging import MeasuredRating, VisitGauging
+from stakeline.gauging.section_rating import rating_or_note
+from stakeline.gauging.visit import gauging_or_note
 from stakeline.survey.compare import compare_visits
 from stakeline.survey.datum import Datum, usable_elevations
 from stakeline.survey.geometry import Section
@@ -358,36 +361,16 @@ def analyse_visit(
     if earlier:
         _comparison(result, earlier)
     if gauging and (gauging.get("verticals") or gauging.get("water_surface")):
-        _gauging(result, gauging)
-    if measurements is not None:
-        _measured_rating(result, measurements, visit, options)
-    return result
-
-
-def _gauging(result: VisitAnalysis, gauging: Mapping) -> None:
-    """The visit's gauging at its water level (a note, not an error, when it cannot be had)."""
-    try:
-        if result.stage is None:
-            raise SurveyError("the visit has no water level")
-        result.gauging = visit_gauging(
-            result.section, result.stage, gauging, result.unit, precision=result.precision
+        result.gauging, result.gauging_note = gauging_or_note(
+            result.section, result.stage, gauging, result.unit, result.precision
         )
-    except SurveyError as exc:
-        result.gauging_note = f"No gauging figures: {exc}"
-
-
-def _measured_rating(result: VisitAnalysis, measurements, visit: Mapping, options) -> None:
-    """The section's rating fitted to its gauged visits, this one included."""
-    own = result.gauging.measurement() if result.gauging is not None else None
-    rows = [m for m in measurements if m.get("visit") != visit.get("uuid")]
-    rows += [{**own, "visit": visit.get("uuid"), "date": visit.get("date")}] if own else []
-    try:
-        result.measured_rating = measured_rating(
-            rows, result.section, result.unit,
-            offset=options.rating_offset, fit_offset=options.fit_offset,
+    if measurements is not None:
+        own = result.gauging.measurement() if result.gauging is not None else None
+        result.measured_rating, result.measured_rating_note = rating_or_note(
+            measurements, own, visit, result.section, result.unit,
+            options.rating_offset, options.fit_offset,
         )  # fmt: skip
-    except SurveyError as exc:
-        result.measured_rating_note = f"No measured rating: {exc}"
+    return result
 
 
 def _choose_n(options: AnalysisOptions) -> tuple[float | None, RoughnessRow | None]:

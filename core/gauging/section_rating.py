@@ -27,6 +27,7 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 import numpy as np
+from stakeline.errors import SurveyError
 from stakeline.gauging.measured_rating import (
     MIN_MEASUREMENTS,
     RatingCurve,
@@ -173,3 +174,23 @@ def measured_rating(
         None if extension is None else extension["slope"], unit,
     )  # fmt: skip
     return MeasuredRating(unit, fit, curve, measured, source, extension, note)
+
+
+def rating_or_note(
+    measurements: Sequence[Mapping],
+    own: Mapping | None,
+    visit: Mapping,
+    section: Section,
+    unit: str,
+    offset: float | None = None,
+    fit_offset: bool = False,
+) -> tuple[MeasuredRating | None, str]:
+    """:func:`measured_rating` of a section's ``measurements`` with the analysed ``visit``'s
+    ``own`` measurement (it replaces one of the same ``visit``), or None and a note saying
+    why there is none: for an analysis that goes on."""
+    rows = [m for m in measurements if m.get("visit") != visit.get("uuid")]
+    rows += [{**own, "visit": visit.get("uuid"), "date": visit.get("date")}] if own else []
+    try:
+        return measured_rating(rows, section, unit, offset=offset, fit_offset=fit_offset), ""
+    except SurveyError as exc:
+        return None, f"No measured rating: {exc}"

@@ -31,6 +31,7 @@ from dataclasses import dataclass
 
 import numpy as np
 from stakeline.checks import Finding
+from stakeline.errors import SurveyError
 from stakeline.gauging.analysis import CAUTION, GaugingAnalysis, analyse_gauging
 from stakeline.gauging.calibrate import CalibratedN, calibrate_n
 from stakeline.gauging.discharge import DISCHARGE_METHODS, verticals_from_section
@@ -399,3 +400,16 @@ def visit_gauging(
         calibrated, n_note = _calibrate(section, stage, analysis, slope, unit, precision)
     return VisitGauging(unit, stage, method, coefficient, rows, analysis, slope, slope_note,
                         calibrated, n_note)  # fmt: skip
+
+
+def gauging_or_note(
+    section: Section, stage: float | None, gauging: Mapping, unit: str, precision=None
+) -> tuple[VisitGauging | None, str]:
+    """:func:`visit_gauging` at ``stage``, or None and a note saying why there is none (no
+    water level, a dry section, a record that cannot be used): for an analysis that goes on."""
+    try:
+        if stage is None:
+            raise GaugingError("the visit has no water level")
+        return visit_gauging(section, stage, gauging, unit, precision=precision), ""
+    except SurveyError as exc:
+        return None, f"No gauging figures: {exc}"

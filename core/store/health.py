@@ -28,11 +28,12 @@ CHECK_HOURS = 24.0
 """Default hours between whole checks of a larger store (setting ``store_check_hours``)."""
 
 SMALL_TABLES = ("meta", "settings", "sites", "sections", "visits", "edits", "water_levels",
-                "overrides", "devices")  # fmt: skip
+                "overrides", "devices", "meters", "visit_meters")  # fmt: skip
 """Tables checked before every import whatever the store's size."""
 
 COPY_ORDER = ("meta", "settings", "devices", "sites", "sections", "visits", "edits",
-              "station_versions", "water_levels", "overrides", "packages")  # fmt: skip
+              "station_versions", "water_levels", "overrides", "meters", "visit_meters",
+              "velocity_versions", "water_surface_versions", "packages")  # fmt: skip
 """Tables copied by :func:`salvage`, in this order."""
 
 

@@ -89,21 +89,21 @@ def test_field_to_office_chain_in_real_processes(tmp_path):
     done = stakeline("import", "out", "--into", "office.db", cwd=tmp_path)
     assert done.returncode == 1 and done.stderr == ""
     lines = done.stdout.splitlines()
-    assert len(lines) == 3 and all("held: signed by device" in line for line in lines)
+    assert len(lines) == 6 and all("held: signed by device" in line for line in lines)
     assert all("does not trust" in line for line in lines)
     listed = stakeline("visits", "--store", "office.db", "--json", cwd=tmp_path)
     assert json.loads(listed.stdout) == []
     held = stakeline("conflicts", "--store", "office.db", cwd=tmp_path)
-    assert held.stdout.count(" held ") == 3 and device in held.stdout
+    assert held.stdout.count(" held ") == 6 and device in held.stdout
 
     # The office trusts the device once: its held packages merge.
     done = stakeline("devices", "trust", "field-key.json", "--into", "office.db",
                      "--by", "Ana Office", cwd=tmp_path)  # fmt: skip
     assert done.returncode == 0, done.stdout + done.stderr
-    assert "3 of 3 held packages of this device merged" in done.stdout
-    assert done.stdout.count("imported visit") == 3
+    assert "6 of 6 held packages of this device merged" in done.stdout
+    assert done.stdout.count("imported visit") == 6
     visits = json.loads(stakeline("visits", "--store", "office.db", "--json", cwd=tmp_path).stdout)
-    assert len(visits) == 3
+    assert len(visits) == 6
     keys = json.loads(stakeline("devices", "--store", "office.db", "--json", cwd=tmp_path).stdout)
     (trusted,) = [k for k in keys if not k["own"]]
     assert trusted["device"] == device and trusted["trusted_by"] == "Ana Office"
@@ -165,7 +165,7 @@ def test_trust_json_and_a_device_trusted_twice(field_and_office, capsys):
     code, out, _ = run(capsys, "devices", "trust", key, "--into", office, "--by", "B", "--json")
     got = json.loads(out)
     assert code == 0 and set(got) == {"device", "retried"}
-    assert [r["status"] for r in got["retried"]] == ["imported"] * 3
+    assert [r["status"] for r in got["retried"]] == ["imported"] * 6
     assert got["device"]["trusted_by"] == "B"
     code, out, _ = run(capsys, "devices", "trust", key, "--into", office)
     assert code == 0 and "no held packages of this device" in out
@@ -246,9 +246,9 @@ def test_salvage_copies_what_it_can_and_leaves_the_old_file(field_and_office, tm
     got = json.loads(out)
     assert code == 0 and got["check"] == "ok"
     assert all(t["unreadable"] == 0 for t in got["tables"].values())
-    assert got["tables"]["visits"]["copied"] == 3
+    assert got["tables"]["visits"]["copied"] == 6
     code, out, _ = run(capsys, "visits", "--store", tmp_path / "whole.db", "--json")
-    assert len(json.loads(out)) == 3
+    assert len(json.loads(out)) == 6
 
 
 def test_salvage_of_an_empty_file_says_so_at_once(tmp_path, capsys):

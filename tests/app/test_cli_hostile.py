@@ -91,6 +91,8 @@ BASES: dict[str, list[list[str]]] = {
     "devices retire": [["devices", "retire", "{fingerprint}", "--store", "{office_copy}",
                         "--at", "2026-05-02T08:00"]],
     "salvage": [["salvage", "--store", "{office}", "--into", "{fresh}"]],
+    "measured-rating": [["measured-rating", "--store", "{office}", "--section", "XS1 riffle",
+                         "--offset", "99.3", "--plot", "{fresh}.png", "--json"]],
 }  # fmt: skip
 """A valid invocation (or two, to reach every option) of each command."""
 

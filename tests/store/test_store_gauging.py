@@ -211,3 +211,17 @@ def test_the_whole_gauging_of_a_visit(store, visit):
     assert set(found) == {"settings", "verticals", "meters", "water_surface"}
     assert [v["station"] for v in found["verticals"]] == [2.0]
     assert [p["distance"] for p in found["water_surface"]] == [-10.0]
+
+
+def test_salvage_copies_the_gauging_records(tmp_path):
+    from stakeline.store import salvage
+
+    with Store.open(tmp_path / "field.db") as field:
+        field.load_demo()
+        gauged = {v["uuid"]: field.gauging(v["uuid"]) for v in field.visits()}
+    report = salvage(tmp_path / "field.db", tmp_path / "saved.db")
+    for table in ("meters", "visit_meters", "velocity_versions", "water_surface_versions"):
+        assert report["tables"][table]["copied"] > 0 and report["tables"][table]["unreadable"] == 0
+    with Store.open(tmp_path / "saved.db") as saved:
+        assert {uuid: saved.gauging(uuid) for uuid in gauged} == gauged
+        assert len(saved.meters()) == 2
