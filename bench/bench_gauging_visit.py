@@ -9,9 +9,11 @@ the app uses).  Prints, with the times, ratios against baselines measured in the
    ``analyse_gauging`` on the same ready-made verticals (goal <= 15: reading the records costs
    little on top of the discharge itself);
 2. the whole live state the screen shows (``gauging_view``) in the same units (goal <= 20);
-3. saving one point and getting the new state back (``save_velocity_point``: a durable commit
-   and the state) in units of saving one station reading (``save_station``, a durable commit
-   alone) (goal <= 6: the live figures add little to what saving already costs).
+3. saving one point and getting the new state back (``save_velocity_point``: reading the
+   records, a durable commit and the state) in units of one station reading saved
+   (``save_station``, a durable commit) plus one ``gauging_view`` (goal <= 4: the round trip
+   costs little more than its two unavoidable parts; fsync speed varies with the disk, so the
+   commit is in the baseline).
 Goals are checked and reported; the exit code is 1 if any is missed.
 """
 
@@ -37,7 +39,7 @@ def main() -> int:
     with tempfile.TemporaryDirectory() as folder:
         store = Store.open(Path(folder) / "bench.sqlite")
         store.load_demo()
-        visit = next(v["uuid"] for v in store.visits() if v["date"] == "2026-11-10")
+        visit = next(v["uuid"] for v in store.visits() if v["date"] == "2026-10-20")
         service = Service(store)
         inputs = gauging_inputs(store, visit)
         section = Section(inputs["stations"], inputs["elevations"])
@@ -62,7 +64,11 @@ def main() -> int:
     rows = [
         ("visit_gauging, in analyse_gauging calls", records / core, 15),
         ("gauging_view, in analyse_gauging calls", view / core, 20),
-        ("save_velocity_point + state, in save_station calls", live / saving, 6),
+        (
+            "save_velocity_point + state, in (save_station + gauging_view)",
+            live / (saving + view),
+            4,
+        ),
     ]
     missed = 0
     for label, ratio, goal in rows:

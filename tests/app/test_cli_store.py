@@ -58,9 +58,9 @@ def test_demo_then_visits_json(tmp_path, capsys):
         ("XS1 riffle", "2026-04-14", 33),
         ("XS2 pool", "2026-04-14", 29),
         ("XS1 riffle", "2026-09-22", 35),
-        ("XS1 riffle", "2026-11-10", 35),
-        ("XS1 riffle", "2027-02-16", 35),
-        ("XS1 riffle", "2027-05-25", 35),
+        ("XS1 riffle", "2026-10-20", 35),
+        ("XS1 riffle", "2026-11-05", 35),
+        ("XS1 riffle", "2026-11-24", 35),
     ]
     code, out, _ = _run(capsys, "visits", "--store", store)
     assert code == 0 and out.count("finished") == 6

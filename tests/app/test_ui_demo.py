@@ -27,13 +27,13 @@ def finish_a_crew_visit(ui) -> str:
 def test_demo_visits_are_marked_and_never_packed_by_the_app(ui, tmp_path):
     service = ui.app.service
     demo = service.store.visits()
-    assert len(demo) == 3 and all(v["settings"] == {"demo": True} for v in demo)
+    assert len(demo) == 6 and all(v["settings"] == {"demo": True} for v in demo)
     visit = finish_a_crew_visit(ui)
     path = service.write_package(visit)
     assert os.listdir(service.outbox()) == [os.path.basename(path)]  # the crew's visit only
     # the command line packs every finished visit, the invented ones included, when asked
     assert cli(["pack", "--store", service.store.path, "--outbox", str(tmp_path / "all")]) == 0
-    assert len(os.listdir(tmp_path / "all")) == 4
+    assert len(os.listdir(tmp_path / "all")) == 7
 
 
 def test_first_start_offers_no_demo_site(ui):

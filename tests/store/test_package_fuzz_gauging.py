@@ -34,7 +34,7 @@ def world(tmp_path_factory):
     folder = tmp_path_factory.mktemp("fuzz-gauging")
     field = Store.open(folder / "field.db", device_id="tablet-F")
     field.load_demo()
-    visit = next(v["uuid"] for v in field.visits() if v["date"] == "2027-05-25")
+    visit = next(v["uuid"] for v in field.visits() if v["date"] == "2026-11-24")
     key_file = folder / "tablet-F.stakeline-device-key.json"
     field.export_device_key(key_file)
     yield {"field": field, "records": field.visit_records(visit), "key_file": key_file,
