@@ -19,6 +19,7 @@ from stakeline.app.cli.options import (
     visit_options,
 )
 from stakeline.app.cli.progress import Progress
+from stakeline.measurements import section_measurements
 from stakeline.report import field_findings, prepare_report, write_report
 from stakeline.survey.numbers import parse_number
 from stakeline.survey.uncertainty import Precision
@@ -79,8 +80,10 @@ def report(
         previous = None if no_compare else earlier_for(opened, found, compare_with)
         progress(1, 3, "analysis")
         data = prepare_report(
-            found, stations, options, findings, opened.overrides(found["uuid"]), previous
-        )
+            found, stations, options, findings, opened.overrides(found["uuid"]), previous,
+            gauging=opened.gauging(found["uuid"]),
+            measurements=section_measurements(opened, found["section_uuid"], unit=found["unit"]),
+        )  # fmt: skip
         progress(2, 3, "drawing")
         path = write_report(data, out)
         progress(3, 3)

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 import subprocess
 import sys
 
@@ -383,3 +384,33 @@ def test_figures_json_keys_and_text(capsys, demo_store):
     code, out, _ = run(capsys, "figures", "--store", path, "--visit", visit, *rough)
     assert code == 0 and "m³/s" in out and "change since 2026-04-14" in out
     assert "licensed review" in out
+
+
+def test_report_of_a_gauged_visit_carries_the_gauging_pages(capsys, demo_store, tmp_path):
+    path, _ = demo_store
+    # The report command hands the visit's gauging and the section's measurements to the one
+    # analysis: its PDF has the gauging, panels and measured-rating pages that the same report
+    # prepared without them lacks.
+    from stakeline.analysis import visit_water_level
+    from stakeline.app.cli.options import Roughness, Slope, analysis_options
+    from stakeline.report import field_findings, prepare_report, write_report
+
+    with Store.open(path, readonly=True) as store:
+        visit = store.visits()[-1]
+        assert visit["section"].startswith("XS1")
+        assert store.gauging(visit["uuid"])["verticals"], "the demo's riffle is gauged"
+    out = tmp_path / "gauged.pdf"
+    code, _, err = run(capsys, "report", "--store", path, "--visit", visit["uuid"],
+                       "--out", out, "--no-compare")  # fmt: skip
+    assert code == 0, err
+    with Store.open(path, readonly=True) as store:
+        found = store.visit(visit["uuid"])
+        stations = [s for s in store.stations(found["uuid"]) if not s.get("removed")]
+    options = analysis_options(Roughness(), Slope(), from_codes=True)
+    findings = field_findings(found, stations, visit_water_level(found["water_levels"]))
+    plain = write_report(prepare_report(found, stations, options, findings), tmp_path / "plain.pdf")
+
+    def pages(path):
+        return len(re.findall(rb"/Type /Page\b(?!s)", path.read_bytes()))
+
+    assert pages(out) >= pages(plain) + 3

@@ -26,7 +26,9 @@ def shapely_figures(x, z, stage):
     perimeter = line.intersection(box(x[0] - 1, float(np.min(z)) - 1, x[-1] + 1, stage)).length
     surface = line.intersection(LineString([(x[0] - 1, stage), (x[-1] + 1, stage)])).length
     parts = getattr(water, "geoms", [water])
-    width = sum(p.bounds[2] - p.bounds[0] for p in parts if not p.is_empty)
+    # Water standing exactly on a flat bed has no depth: a part of zero area is dry (the
+    # section's rule: a stage at or below the ground gives zeros), though its bounds have width.
+    width = sum(p.bounds[2] - p.bounds[0] for p in parts if p.area > 0)
     return water.area, perimeter - surface, width
 
 
@@ -55,6 +57,16 @@ def test_profile_figures_match_section_at_and_shapely(ground, stage):
     assert_allclose(many["top_width"][0], width, rtol=1e-9, atol=1e-9)
     second = Section(x, z + 0.1).at(stage)
     assert_allclose(many["area"][1], second.area, rtol=1e-9, atol=1e-12)
+
+
+def test_water_exactly_on_a_flat_bed_is_dry():
+    # The case hypothesis found: the flat bed between stations 1 and 2 at the water level.
+    x, z = np.array([0.0, 1.0, 2.0, 3.0]), np.array([4.0, 1.0, 1.0, 4.0])
+    many = profile_figures(x, z, 1.0)
+    one = Section(x, z).at(1.0)
+    assert (one.area, one.top_width, one.wetted_perimeter) == (0.0, 0.0, 0.0)
+    for name, value in zip(("area", "wetted_perimeter", "top_width"), shapely_figures(x, z, 1.0)):
+        assert_allclose(many[name][0], value, atol=1e-12)
 
 
 @settings(max_examples=40, deadline=None)
