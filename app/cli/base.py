@@ -8,6 +8,7 @@ and options of one concern (roughness, energy slope) are listed under their own 
 
 from __future__ import annotations
 
+import os
 import unicodedata
 from collections.abc import Sequence
 
@@ -54,6 +55,16 @@ class OneLineError(click.ClickException):
     def show(self, file=None) -> None:
         """Print the one line (no "Error:" prefix, no usage) to stderr."""
         click.echo(shown(self.message), err=True)
+
+
+EXIT_DEFECT = 3
+"""Exit code when Stakeline itself failed (a defect to report), not the input."""
+
+
+class DefectError(OneLineError):
+    """An unexpected failure inside Stakeline, shown as one line that asks for a report."""
+
+    exit_code = EXIT_DEFECT
 
 
 class GroupedOption(click.Option):
@@ -112,6 +123,20 @@ def run_one_line(ctx: click.Context, invoke):
         raise OneLineError(f"{ctx.command_path}: {NUMBER_TROUBLE.format(exc)}") from None
     except BrokenPipeError:  # the reader (head, less) went away: nothing more to say
         return 0
+    except OSError as exc:  # the disk or the system refused: say what, where
+        where = f" ({exc.filename})" if getattr(exc, "filename", None) else ""
+        raise OneLineError(
+            f"{ctx.command_path}: {exc.strerror or exc}{where}; check the path, the free space "
+            "and the permissions"
+        ) from None
+    except Exception as exc:
+        if os.environ.get("STAKELINE_DEBUG"):
+            raise
+        raise DefectError(
+            f"{ctx.command_path}: Stakeline failed unexpectedly ({type(exc).__name__}: {exc}); "
+            "nothing was changed by the failed step. Please report this with the command you "
+            "ran (STAKELINE_DEBUG=1 shows the details)"
+        ) from None
 
 
 class StakelineCommand(click.Command):
