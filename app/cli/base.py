@@ -129,6 +129,8 @@ def run_one_line(ctx: click.Context, invoke):
             f"{ctx.command_path}: {exc.strerror or exc}{where}; check the path, the free space "
             "and the permissions"
         ) from None
+    except (click.ClickException, click.exceptions.Exit, click.Abort):
+        raise  # already said (a subcommand's own line) or click's own handling
     except Exception as exc:
         if os.environ.get("STAKELINE_DEBUG"):
             raise

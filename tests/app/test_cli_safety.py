@@ -223,3 +223,26 @@ def test_import_into_a_damaged_store_says_how_to_recover(tmp_path, capsys):
     code, out, err = run(capsys, "import", tmp_path / "out", "--into", office)
     assert code == 2 and out == "" and err.count("\n") == 1
     assert "stakeline salvage --store" in err and "run the same import again" not in err
+
+
+def test_an_unexpected_failure_is_one_line_asking_for_a_report(monkeypatch):
+    # A defect inside a command (here: one raising KeyError) must not print a traceback: one
+    # line that names the command and asks for a report, exit 3; STAKELINE_DEBUG shows it all.
+    import click
+    from stakeline.app.cli.base import EXIT_DEFECT, DefectError, run_one_line
+
+    ctx = click.Context(click.Command("section"), info_name="stakeline section")
+
+    def broken(_ctx):
+        raise KeyError("elevation")
+
+    monkeypatch.delenv("STAKELINE_DEBUG", raising=False)
+    with pytest.raises(DefectError) as caught:
+        run_one_line(ctx, broken)
+    assert caught.value.exit_code == EXIT_DEFECT == 3
+    message = caught.value.message
+    assert message.startswith("stakeline section: ") and "\n" not in message
+    assert "KeyError" in message and "report" in message
+    monkeypatch.setenv("STAKELINE_DEBUG", "1")
+    with pytest.raises(KeyError):
+        run_one_line(ctx, broken)

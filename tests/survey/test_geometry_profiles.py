@@ -65,7 +65,8 @@ def test_water_exactly_on_a_flat_bed_is_dry():
     many = profile_figures(x, z, 1.0)
     one = Section(x, z).at(1.0)
     assert (one.area, one.top_width, one.wetted_perimeter) == (0.0, 0.0, 0.0)
-    for name, value in zip(("area", "wetted_perimeter", "top_width"), shapely_figures(x, z, 1.0)):
+    reference = shapely_figures(x, z, 1.0)
+    for name, value in zip(("area", "wetted_perimeter", "top_width"), reference, strict=True):
         assert_allclose(many[name][0], value, atol=1e-12)
 
 
