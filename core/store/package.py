@@ -264,6 +264,19 @@ def pack_visits(
     (the outbox already holds a package with the same records, signed by this store's key).
     Temporary files left by a killed earlier run are removed first.  ``progress(done, total)``
     is called after each package.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from stakeline.store import Store
+    >>> folder = tempfile.mkdtemp()
+    >>> field = Store.open(f"{folder}/field.sqlite", device_id="tablet-demo")
+    >>> visits = field.load_demo()                      # invented, finished visits
+    >>> [r["status"] for r in pack_visits(field, f"{folder}/outbox")][:2]
+    ['written', 'written']
+    >>> pack_visits(field, f"{folder}/outbox", skip_demo=True)  # the app never packs demo data
+    []
+    >>> field.close()
     """
     folder = Path(outbox)
     if folder.exists() and not folder.is_dir():
@@ -394,6 +407,23 @@ def import_files(
 ) -> list[dict]:
     """Import package files (folders expand to their packages); one :func:`import_file` dict
     per file, in order.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from stakeline.store import Store
+    >>> folder = tempfile.mkdtemp()
+    >>> field = Store.open(f"{folder}/field.sqlite", device_id="tablet-demo")
+    >>> visits = field.load_demo()
+    >>> packed = pack_visits(field, f"{folder}/outbox")
+    >>> key = field.export_device_key(f"{folder}/tablet.key.json")
+    >>> office = Store.open(f"{folder}/office.sqlite")
+    >>> {r["status"] for r in import_files(office, [f"{folder}/outbox"])}   # not trusted yet
+    {'held'}
+    >>> trusted = office.trust_device(f"{folder}/tablet.key.json", by="office")
+    >>> {r["status"] for r in retry_held(office)}
+    {'imported'}
+    >>> field.close(); office.close()
 
     The store is checked first (:meth:`Store.check_health`: a damaged store is refused with
     how to recover).  Files are read and verified without the write lock; then each is merged

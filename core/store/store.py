@@ -58,7 +58,19 @@ def _part(name: str, method: Callable) -> Callable:
 
 
 class Store:
-    """A Stakeline store in one SQLite file; open with :meth:`open` or :meth:`memory`."""
+    """A Stakeline store in one SQLite file; open with :meth:`open` or :meth:`memory`.
+
+    Examples
+    --------
+    >>> store = Store.memory(device_id="tablet-demo")
+    >>> site = store.create_site("Invented Creek at Mill Lane")
+    >>> section = store.create_section(site["uuid"], "XS1")
+    >>> visit = store.start_visit(section["uuid"], "2026-05-01", line_left=100.0, line_right=100.0)
+    >>> store.save_station(visit["uuid"], 2.0, 1.25)["elevation"]   # line minus reading, m
+    98.75
+    >>> [s["station"] for s in store.stations(visit["uuid"])]
+    [2.0]
+    """
 
     def __init__(self, connection: StoreConnection):
         self._db = connection
