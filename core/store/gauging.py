@@ -247,12 +247,7 @@ class Gauging:
     def velocity_history(self, vertical_uuid: str) -> list[dict]:
         """Every version of a vertical, oldest first: :meth:`save_velocity`'s keys (``modified``
         is when that version was written) plus ``undone`` (bool)."""
-        out = []
-        for row, first, undone in self._verticals.history(vertical_uuid):
-            record = _vertical_dict(row, first)
-            record["undone"] = undone
-            out.append(record)
-        return out
+        return _history(self._verticals, vertical_uuid, _vertical_dict)
 
     def undo_velocity(self, visit_uuid: str) -> dict | None:
         """Undo the visit's latest velocity change (add, correct or remove) not yet undone.
@@ -261,17 +256,7 @@ class Gauging:
         version (as :meth:`velocity_history`) with ``current``: the vertical now (or None when
         it no longer exists); None when there is nothing left to undo.
         """
-        with self.db.transaction():
-            undone = self._verticals.undo(self._visit(visit_uuid))
-        if undone is None:
-            return None
-        result = _vertical_dict(*undone)
-        result["undone"] = True
-        try:
-            result["current"] = _vertical_dict(*self._verticals.latest(result["uuid"]))
-        except StoreError:
-            result["current"] = None
-        return result
+        return self._undo(self._verticals, visit_uuid, _vertical_dict)
 
     # -- water-surface points -----------------------------------------------------------------
     def add_water_surface_point(
@@ -313,24 +298,24 @@ class Gauging:
 
     def water_surface_history(self, point_uuid: str) -> list[dict]:
         """Every version of a water-surface point, oldest first, with ``undone`` (bool)."""
-        out = []
-        for row, first, undone in self._surface.history(point_uuid):
-            record = _point_dict(row, first)
-            record["undone"] = undone
-            out.append(record)
-        return out
+        return _history(self._surface, point_uuid, _point_dict)
 
     def undo_water_surface_point(self, visit_uuid: str) -> dict | None:
         """Undo the visit's latest water-surface change not yet undone; returns the undone
         version with ``undone`` and ``current`` (as :meth:`undo_velocity`), or None."""
+        return self._undo(self._surface, visit_uuid, _point_dict)
+
+    def _undo(self, log, visit_uuid: str, as_dict) -> dict | None:
+        """Undo the latest change of ``log`` (a version log) in a visit; the undone version as
+        ``as_dict`` gives it, with ``undone`` and ``current`` (None when it no longer exists)."""
         with self.db.transaction():
-            undone = self._surface.undo(self._visit(visit_uuid))
+            undone = log.undo(self._visit(visit_uuid))
         if undone is None:
             return None
-        result = _point_dict(*undone)
+        result = as_dict(*undone)
         result["undone"] = True
         try:
-            result["current"] = _point_dict(*self._surface.latest(result["uuid"]))
+            result["current"] = as_dict(*log.latest(result["uuid"]))
         except StoreError:
             result["current"] = None
         return result
@@ -367,3 +352,13 @@ class Gauging:
             "meters": self.visit_meters(visit_uuid),
             "water_surface": self.water_surface_points(visit_uuid),
         }
+
+
+def _history(log, uuid: str, as_dict) -> list[dict]:
+    """Every version of one record of a version log, oldest first, with ``undone`` (bool)."""
+    out = []
+    for row, first, undone in log.history(uuid):
+        record = as_dict(row, first)
+        record["undone"] = undone
+        out.append(record)
+    return out

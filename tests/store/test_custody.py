@@ -26,14 +26,6 @@ from stakeline.store.signing import fingerprint, key_file_for, read_device_key
 
 
 @pytest.fixture
-def field(tmp_path):
-    store = Store.open(tmp_path / "field.db", device_id="tablet-A")
-    store.load_demo()
-    yield store
-    store.close()
-
-
-@pytest.fixture
 def office(tmp_path):
     store = Store.open(tmp_path / "office.db", device_id="office")
     yield store

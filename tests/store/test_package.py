@@ -32,22 +32,6 @@ def _dump(store: Store) -> list[str]:
 
 
 @pytest.fixture
-def field(tmp_path):
-    store = Store.open(tmp_path / "field.db", device_id="tablet-A")
-    store.load_demo()
-    yield store
-    store.close()
-
-
-@pytest.fixture
-def office(tmp_path, field):
-    store = Store.open(tmp_path / "office.db", device_id="office")
-    trust(store, field)  # the office has trusted the field tablet's key file
-    yield store
-    store.close()
-
-
-@pytest.fixture
 def outbox(field, tmp_path):
     pack_visits(field, tmp_path / "outbox")
     return tmp_path / "outbox"

@@ -24,22 +24,6 @@ from stakeline.store.records import GAUGING_LISTS
 SPRING = "2026-04-14"
 
 
-@pytest.fixture
-def field(tmp_path):
-    store = Store.open(tmp_path / "field.db", device_id="tablet-A")
-    store.load_demo()
-    yield store
-    store.close()
-
-
-@pytest.fixture
-def office(tmp_path, field):
-    store = Store.open(tmp_path / "office.db", device_id="office")
-    trust(store, field)
-    yield store
-    store.close()
-
-
 def _riffle(store: Store, date: str = SPRING) -> str:
     return next(v["uuid"] for v in store.visits() if v["section"] == "XS1 riffle"
                 and v["date"] == date)  # fmt: skip

@@ -9,25 +9,8 @@ import os
 import threading
 
 import pytest
-from custody_helpers import trust
 from stakeline.store import Store, StoreError
 from stakeline.store.package import build_package, import_files, pack_visits
-
-
-@pytest.fixture
-def field(tmp_path):
-    store = Store.open(tmp_path / "field.db", device_id="tablet-A")
-    store.load_demo()
-    yield store
-    store.close()
-
-
-@pytest.fixture
-def office(tmp_path, field):
-    store = Store.open(tmp_path / "office.db", device_id="office")
-    trust(store, field)
-    yield store
-    store.close()
 
 
 def _dump(store: Store) -> list[str]:
