@@ -24,7 +24,8 @@ from kivy.app import App
 from kivy.properties import ObjectProperty, StringProperty
 from stakeline.app import theme
 
-SCREENS = ("home", "settings", "stakes", "spacing", "readings", "section", "checks", "detail")
+SCREENS = ("home", "settings", "stakes", "spacing", "readings", "section", "velocity", "surface",
+           "checks", "detail")  # fmt: skip
 """Screen names; each is ``app/screens/<name>.py`` with a ``<Name>Screen`` class and a .kv."""
 
 WINDOW_FILE = "window.json"

@@ -37,6 +37,7 @@ POINT = hex_colour("#101418")
 FLAG = hex_colour("#C8102E")  # flagged station marker (graphic, not text)
 CURRENT = hex_colour("#E08A00")  # the station being read (graphic, not text)
 GRID = hex_colour("#C9C3B3")
+VELOCITY = hex_colour("#00695C")  # velocity bars over the water (graphic, not text)
 
 STATE_COLOURS = {"saved": ACCEPT, "unsaved": CAUTION, "flagged": DANGER, "none": INK_SOFT}
 """Text colour of each entry state on paper; words always accompany the colour."""

@@ -14,7 +14,9 @@ from datetime import date
 
 import numpy as np
 from stakeline.app.service.checks import META_KEYS, FieldChecks  # noqa: F401  (META_KEYS re-exported)
+from stakeline.app.service.custody import DeviceCustody
 from stakeline.app.service.finishing import POSITION_KEY, Finishing
+from stakeline.app.service.gauging import METER_KINDS, GaugingService  # noqa: F401  (re-exported)
 from stakeline.app.service.office import OfficeFigures
 from stakeline.app.service.plans import StationPlans
 from stakeline.app.service.settings import (  # noqa: F401  (re-exported)
@@ -32,6 +34,7 @@ from stakeline.app.service.util import (  # noqa: F401  (re-exported for the scr
     short_path,
     uniform_stations,
 )
+from stakeline.app.service.velocity import VelocityStep
 from stakeline.errors import SurveyError
 from stakeline.survey.codes import CHIPS
 from stakeline.survey.datum import Datum
@@ -50,13 +53,25 @@ def is_demo(visit: dict) -> bool:
     return bool((visit.get("settings") or {}).get("demo"))
 
 
-class FieldService(DeviceSettings, FieldChecks, OfficeFigures, StationPlans, Finishing):
+class FieldService(
+    DeviceSettings,
+    FieldChecks,
+    OfficeFigures,
+    StationPlans,
+    Finishing,
+    GaugingService,
+    VelocityStep,
+    DeviceCustody,
+):
     """Everything the screens do with a visit, on one open store (the device settings come from
     :class:`stakeline.app.service.settings.DeviceSettings`, the field checks from
     :class:`stakeline.app.service.checks.FieldChecks`, the office figures of the section-detail
     screen from :class:`stakeline.app.service.office.OfficeFigures`, the station plans from
     :class:`stakeline.app.service.plans.StationPlans`, finishing and packing from
-    :class:`stakeline.app.service.finishing.Finishing`).
+    :class:`stakeline.app.service.finishing.Finishing`, the velocity and water-surface steps
+    and the gauging's office figures from :class:`stakeline.app.service.gauging.GaugingService`
+    and :class:`stakeline.app.service.velocity.VelocityStep`, the device's signing key from
+    :class:`stakeline.app.service.custody.DeviceCustody`).
 
     ``store`` is an open :class:`stakeline.store.Store`; ``outbox`` the folder finished packages
     go to when the settings do not name one.
@@ -406,14 +421,17 @@ def open_service(folder: str, demo: bool = True, outbox: str | None = None) -> F
 
     The folder and its parents are created when missing.  On first start (a store with no sites)
     the invented Tessaly Creek demo survey is loaded -- marked as demo data, never packed -- so
-    the home screen has something to show.  Packages go to ``outbox`` (default: a visible
-    folder in the user's documents, :func:`stakeline.app.service.settings.default_outbox`)
-    unless the settings name another folder.
+    the home screen has something to show.  The device's signing key pair is made on the
+    first start (and only found again later), so it exists before the first package.  Packages
+    go to ``outbox`` (default: a visible folder in the user's documents,
+    :func:`stakeline.app.service.settings.default_outbox`) unless the settings name another
+    folder.
     """
     from stakeline.store import Store
 
     os.makedirs(folder, exist_ok=True)
     store = Store.open(os.path.join(folder, "stakeline.sqlite"))
+    store.device_key()  # chain of custody: the key pair exists from the first start on
     if demo and not store.sites():
         store.load_demo()
     return FieldService(store, outbox=outbox or default_outbox())

@@ -78,19 +78,21 @@ class FieldChecks:
 
         inputs = dict(inputs)
         plan = inputs.pop("plan", None)
-        gauging = gauging_review(inputs.pop("gauging", None))
+        # a gauging finding is fixed on the velocity step, the others on the readings
+        gauging = [{**f, "step": "velocity"} for f in gauging_review(inputs.pop("gauging", None))]
         findings = review(**inputs)
         if plan is not None:
             unit = inputs["meta"]["unit"]
             findings += plan_findings(plan["planned"], plan["read"], unit)
-        found = [finding.as_dict() for finding in findings] + gauging
+        found = [{**finding.as_dict(), "step": "readings"} for finding in findings] + gauging
         return sorted(
             found, key=lambda f: SEVERITIES.index(f["severity"])
         )  # stable: by station within
 
     def review(self, visit_uuid: str) -> list[dict]:
         """Field-check findings of the visit (dicts: kind, severity, station, message,
-        suggestion), most serious first; overridden ones carry ``override`` (the reason)."""
+        suggestion, step: the screen where it is fixed, ``readings`` or ``velocity``), most
+        serious first; overridden ones carry ``override`` (the reason)."""
         return self._mark_overrides(visit_uuid, self.run_review(self.review_inputs(visit_uuid)))
 
     def review_async(self, visit_uuid: str, on_done, on_error=None) -> None:

@@ -15,7 +15,8 @@ POSITION_KEY = "field.position"
 
 class Finishing:
     """Mixin of :class:`stakeline.app.service.FieldService` (needs ``store``, ``plan``,
-    ``readings``, ``blocking``, ``outbox``, ``worker``): finishing a visit."""
+    ``readings``, ``blocking``, ``outbox``, ``worker``, ``velocity_counts``): finishing a
+    visit."""
 
     @staticmethod
     def finding_counts(findings: list[dict]) -> dict[str, int]:
@@ -38,9 +39,10 @@ class Finishing:
         return blocking
 
     def finish_summary(self, visit_uuid: str, findings: list[dict], reason: str = "") -> dict:
-        """What finishing will do, to ask once before: stations ``read`` of ``planned``, the
-        ``counts`` of findings by severity, the ``package`` file name and its ``outbox``, and
-        ``text`` saying it all.  ServiceError when blocking findings need a written reason."""
+        """What finishing will do, to ask once before: stations ``read`` of ``planned``,
+        ``velocities`` (wet verticals ``read`` of the ``wet`` ones, None without velocities),
+        the ``counts`` of findings by severity, the ``package`` file name and its ``outbox``,
+        and ``text`` saying it all.  ServiceError when blocking findings need a written reason."""
         from stakeline.store.package import package_name
 
         self._check_reason(findings, reason)
@@ -50,10 +52,14 @@ class Finishing:
         counts = self.finding_counts(findings)
         to_override = len(self.blocking(findings))
         package = package_name(self.store.visit_records(visit_uuid))
+        gauged = self.velocity_counts(visit_uuid)
         lines = [
             f"[b]{visit['section']}[/b] · {visit['site']} · {visit['date']}",
             f"Stations read: {len(read & set(plan))} of {count_words(len(plan), 'planned station')}"
             + (f" (+{len(read - set(plan))} more)" if read - set(plan) else ""),
+            "Velocities: none read on this visit"
+            if gauged is None
+            else f"Velocities read: {gauged['read']} of {count_words(gauged['wet'], 'wet station')}",
             f"Must fix: {counts['block']}"
             + (" (finished with your written reason)" if to_override else "")
             + f" · To look at: {counts['warn']} · Notes: {counts['note']}",
@@ -64,6 +70,7 @@ class Finishing:
         return {
             "read": len(read & set(plan)),
             "planned": len(plan),
+            "velocities": gauged,
             "counts": counts,
             "package": package,
             "outbox": self.outbox(),

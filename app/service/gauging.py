@@ -128,9 +128,10 @@ def gauging_view(inputs: dict) -> dict:
     ``plus_minus`` and ``relative`` (None until estimable), ``mean_velocity``, ``area``,
     ``width``, ``wet`` and ``read`` (counts), ``next_station`` (first wet vertical not fully
     read), ``findings``, ``wading`` (the wading findings, shown at once), ``blocking``,
-    ``caution``; or ``error`` alone when there is nothing to gauge yet.
+    ``method_points`` (the points each method of a vertical reads), ``caution``; or ``error``
+    alone when there is nothing to gauge yet.
     """
-    from stakeline.gauging import CAUTION
+    from stakeline.gauging import CAUTION, VERTICAL_METHODS
 
     try:
         found = _gauge(inputs)
@@ -158,6 +159,7 @@ def gauging_view(inputs: dict) -> dict:
         "next_station": pending[0] if pending else None, "findings": findings,
         "wading": list(wading.values()),
         "blocking": sum(f["severity"] == "block" for f in findings), "caution": CAUTION,
+        "method_points": {name: list(points) for name, points in VERTICAL_METHODS.items()},
     }  # fmt: skip
 
 

@@ -18,6 +18,9 @@ STYLE_FILES = (
     "screens/spacing.kv",
     "screens/readings.kv",
     "screens/section.kv",
+    "screens/velocity.kv",
+    "screens/meters.kv",
+    "screens/surface.kv",
     "screens/checks.kv",
     "screens/detail.kv",
 )

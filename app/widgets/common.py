@@ -308,6 +308,7 @@ class StepTab(BigButton):
 
 
 class StepBar(BoxLayout):
-    """The visit's steps across the top: home, stakes, spacing, readings, section, checks."""
+    """The visit's steps across the top: home, stakes, spacing, readings, section, velocity,
+    checks."""
 
     current = StringProperty("")

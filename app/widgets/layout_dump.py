@@ -8,7 +8,8 @@ origin top left as ``xdotool`` counts (``whole`` is false when a scrolling list 
 of it).  A real-window test reads it to know where to click, so a layout change never breaks
 the test.  Names: the control's id in its rule (``save``, ``tab_checks``, ``keep``...),
 ``key:<action>`` for keypad keys, ``chip:<text>`` / ``button:<text>`` for controls without an id,
-``row:<station>`` / ``finding:<n>`` for the rows of a list (top to bottom).
+``row:<station>`` / ``finding:<n>`` for the rows of a list (top to bottom); a control built in
+code names itself (``dump_name``: ``point:v02:revolutions``, ``meter:<serial>``...).
 """
 
 from __future__ import annotations
@@ -23,7 +24,9 @@ from kivy.uix.scrollview import ScrollView
 from kivy.uix.textinput import TextInput
 
 STATE = ("station", "entry_state", "position_text", "running", "finished", "package_path",
-         "blocking", "summary", "level", "tone")  # fmt: skip
+         "blocking", "summary", "level", "tone", "method", "counting", "meter_text",
+         "discharge_text", "wading_text", "read_text", "slope_text", "point_count",
+         "fingerprint")  # fmt: skip
 """Properties of the screen shown written with the layout (when it has them), so a test knows
 when an action has taken effect."""
 
@@ -76,7 +79,9 @@ def controls(root, window_height: float) -> dict:
         if not isinstance(widget, (ButtonBehavior, TextInput, NumberField)):
             continue
         kind = type(widget).__name__
-        if kind == "ReadingRow":
+        if getattr(widget, "dump_name", ""):  # controls built in code name themselves
+            name = widget.dump_name
+        elif kind == "ReadingRow":
             name = f"row:{getattr(widget, 'station_text', rows)}"
             rows += 1
         elif kind == "FindingRow":

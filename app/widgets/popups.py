@@ -50,9 +50,11 @@ class SunPopup(ModalView):
 
 class NotePopup(SunPopup):
     """A note for the current station (the system keyboard is fine for words); ``screen`` is
-    the readings screen, whose ``set_note(text)`` keeps it."""
+    the screen whose ``set_note(text)`` keeps it (readings, velocity); ``hint`` says when it
+    is saved."""
 
     screen = ObjectProperty(None)
+    hint = StringProperty("Type the note, then Keep note (Enter). It is saved with the reading.")
 
     def submit(self) -> None:
         """Keep the note and close."""

@@ -4,6 +4,11 @@ Drawn with Kivy canvas instructions only (a ``Line`` for the ground, one ``Point
 kind of marker, one ``Mesh`` triangle strip for the water between the surface and the bed, cached
 label textures for the ticks), so one update is a few numpy operations on the points.
 
+Velocities read at the verticals (:meth:`SectionView.set_velocities`) are drawn as bars standing
+on the water surface, as tall as the velocity (the fastest reaching about a third of the
+drawing), joined at their tops; a negative velocity (flow running upstream) hangs below the
+surface in red.
+
 Touch: a one-finger drag that starts on the water-level line (or its grip at the right) moves the
 water level and fires ``on_level_dragged``; any other one-finger drag pans; two fingers pinch to
 zoom; the mouse wheel zooms; a double tap fits the whole section again.
@@ -54,6 +59,9 @@ class SectionView(StencilView):
         self._pinch: tuple | None = None
         self._label_cache: dict[str, object] = {}
         self._index_cache: dict[int, list[int]] = {}
+        self._velocity_x = np.zeros(0)
+        self._velocity_v = np.zeros(0)
+        self._velocity_current: float | None = None
         with self.canvas:
             Color(*T.PAPER)
             self._background = Rectangle()
@@ -75,6 +83,8 @@ class SectionView(StencilView):
             self._current_mark = Point(pointsize=dp(8))
             Color(*T.POINT)
             self._points = Point(pointsize=dp(3.5))
+        self._bars = InstructionGroup()  # velocity bars, rebuilt with the water
+        self.canvas.add(self._bars)
         self.bind(pos=self._on_geometry, size=self._on_geometry)
 
     # --- data ---------------------------------------------------------------------------------
@@ -85,6 +95,16 @@ class SectionView(StencilView):
         self._flagged = np.asarray(list(flagged), dtype=float)
         self._current = current
         if refit or not self._user_view:
+            self._view = None
+        self.redraw()
+
+    def set_velocities(self, stations, velocities, current=None) -> None:
+        """Draw a bar for the velocity (unit/s, normal to the section) read at each station;
+        ``current`` is the vertical being read (drawn thicker).  Empty lists clear them."""
+        self._velocity_x = np.asarray(stations, dtype=float)
+        self._velocity_v = np.asarray(velocities, dtype=float)
+        self._velocity_current = current
+        if not self._user_view:
             self._view = None
         self.redraw()
 
@@ -108,7 +128,10 @@ class SectionView(StencilView):
         x0, x1 = float(self._x.min()), float(self._x.max())
         z0, z1 = float(z_values.min()), float(z_values.max())
         dx, dz = max(x1 - x0, 0.5), max(z1 - z0, 0.25)
-        return [x0 - 0.03 * dx, x1 + 0.03 * dx, z0 - 0.08 * dz, z1 + 0.12 * dz]
+        top = z1 + 0.12 * dz
+        if self._velocity_x.size and self.water_level is not None:
+            top = max(top, float(self.water_level) + 0.5 * dz)  # room for the velocity bars
+        return [x0 - 0.03 * dx, x1 + 0.03 * dx, z0 - 0.08 * dz, top]
 
     def _frame(self) -> tuple[float, float, float, float]:
         """Plot box in window pixels: left, bottom, width, height."""
@@ -174,6 +197,7 @@ class SectionView(StencilView):
     def update_water(self) -> None:
         """Redraw the water fill and the level line only (the per-keystroke / per-drag update)."""
         level = self.water_level
+        self._draw_velocities()
         if level is None or self._x.size < 2:
             self._water.vertices = []
             self._water.indices = []
@@ -199,6 +223,35 @@ class SectionView(StencilView):
         self._level_line.points = [left, y, left + width, y]
         self._grip.pos = (left + width, y - dp(10))
         self._grip.size = (dp(_MARGIN_RIGHT) - dp(4), dp(20))
+
+    def _draw_velocities(self) -> None:
+        """Bars from the water surface, as tall as each velocity, joined at their tops."""
+        self._bars.clear()
+        keep = np.isfinite(self._velocity_v)
+        x, v = self._velocity_x[keep], self._velocity_v[keep]
+        if self.water_level is None or x.size == 0:
+            return
+        largest = float(np.max(np.abs(v)))
+        if largest <= 0:
+            largest = 1.0
+        px, surface = self.to_screen(x, float(self.water_level))
+        _left, bottom, _width, height = self._frame()
+        room = max(bottom + height - float(surface), height * 0.2) * 0.9
+        tops = float(surface) + v / largest * room
+        self._bars.add(Color(*T.VELOCITY))
+        if x.size > 1:
+            order = np.argsort(px)
+            line = np.column_stack([px[order], tops[order]]).ravel().tolist()
+            self._bars.add(Line(points=line, width=dp(1.2)))
+        for sx, top, speed, station in zip(px.tolist(), tops.tolist(), v.tolist(), x.tolist(),
+                                           strict=True):  # fmt: skip
+            current = (
+                self._velocity_current is not None and abs(station - self._velocity_current) < 1e-6
+            )
+            colour = T.CURRENT if current else (T.FLAG if speed < 0 else T.VELOCITY)
+            self._bars.add(Color(*colour))
+            self._bars.add(Line(points=[sx, float(surface), sx, top],
+                                width=dp(4.5 if current else 3)))  # fmt: skip
 
     def _label(self, text: str):
         texture = self._label_cache.get(text)

@@ -21,10 +21,13 @@ Versions:
    ``visit_meters`` (the rating of each meter a visit used, recorded with the visit),
    ``velocity_versions`` (the velocity read at each vertical, append-only like station versions)
    and ``water_surface_versions`` (water-surface points for the slope, append-only).
+7. demo visits marked: visits of the invented demo survey loaded before the app marked them
+   (``settings["demo"]``) get the mark, so the app never packs them for the office.
 """
 
 from __future__ import annotations
 
+import json
 import sqlite3
 from collections.abc import Callable
 
@@ -233,6 +236,40 @@ def _v6_gauging(db: sqlite_utils.Database) -> None:
         db[table].create_index([identity])
 
 
+DEMO_SITE = "Tessaly Creek at Birchmoor Footbridge"
+"""Site name of the invented demo survey (``demo_data/tessaly_creek.json``), as every version of
+the demo has named it; frozen here so that the version-7 step stays what it was."""
+
+DEMO_DEVICES = ("tablet-01", "tablet-02")
+"""Device ids the invented demo survey stamps its visits with (``demo_data``), frozen here."""
+
+
+def _v7_demo_marks(db: sqlite_utils.Database) -> None:
+    """Version 7: mark the visits of the invented demo survey as demo (``settings["demo"]``)
+    where an earlier version loaded them without the mark: finished visits on the demo site
+    stamped by one of the demo's devices.  A crew's own visits are stamped with their device's
+    id, so they are never taken for demo data."""
+    from stakeline.store.values import canonical_json
+
+    marks = ", ".join("?" for _ in DEMO_DEVICES)
+    rows = db.conn.execute(
+        "SELECT v.uuid, v.settings FROM visits v JOIN sections s ON s.uuid = v.section_uuid"
+        f" JOIN sites t ON t.uuid = s.site_uuid WHERE t.name = ? AND v.device IN ({marks})"
+        " AND v.finished IS NOT NULL",
+        [DEMO_SITE, *DEMO_DEVICES],
+    ).fetchall()
+    for uuid, text in rows:
+        try:
+            settings = json.loads(text or "{}")
+        except ValueError:
+            continue  # a damaged settings text is the store check's to report, not ours
+        if isinstance(settings, dict) and not settings.get("demo"):
+            settings["demo"] = True
+            db.conn.execute(
+                "UPDATE visits SET settings = ? WHERE uuid = ?", [canonical_json(settings), uuid]
+            )
+
+
 MIGRATIONS: list[Callable[[sqlite_utils.Database], None]] = [
     _v1_field_records,
     _v2_settings,
@@ -240,6 +277,7 @@ MIGRATIONS: list[Callable[[sqlite_utils.Database], None]] = [
     _v4_entry_order_index,
     _v5_custody,
     _v6_gauging,
+    _v7_demo_marks,
 ]
 """``MIGRATIONS[k]`` carries a store from schema version ``k`` to ``k + 1``."""
 

@@ -114,7 +114,9 @@ def test_each_step_adds_what_it_says(tmp_path):
     assert any(i.columns == ["visit_uuid", "meter_uuid"] and i.unique
                for i in db["visit_meters"].indexes)  # fmt: skip
     assert any(i.columns == ["vertical_uuid"] for i in db["velocity_versions"].indexes)
-    assert schema_version(conn) == 6 == LATEST
+    assert schema_version(conn) == 6
+    migrate(db, target=7)  # demo marks: data only, no new tables
+    assert schema_version(conn) == 7 == LATEST
     conn.close()
 
 
@@ -138,3 +140,49 @@ def test_a_failed_step_leaves_the_old_version_whole(tmp_path, monkeypatch):
     with Store.open(path) as store:
         assert store.schema_version == LATEST
         assert store.visit(VISIT)["station_count"] == 2
+
+
+def _unmark_demo(path) -> None:
+    """Make ``path`` look like a store from before the app marked the demo: its visits without
+    the ``demo`` mark, at schema version 6."""
+    conn = sqlite3.connect(path, isolation_level=None)
+    conn.execute("UPDATE visits SET settings = '{}'")
+    conn.execute("PRAGMA user_version = 6")
+    conn.close()
+
+
+def test_demo_visits_of_an_older_store_are_marked_and_never_packed(tmp_path):
+    """Version 7: the invented demo's visits (its site and device ids, from
+    demo_data/tessaly_creek.json) get the demo mark; the crew's visits -- even on a site of the
+    same name, or a demo device id on another site -- do not, and the app never packs demo."""
+    import json
+
+    from stakeline.store.schema import DEMO_DEVICES, DEMO_SITE
+    from stakeline.store.store import DEMO_PATH
+
+    demo = json.loads(DEMO_PATH.read_text(encoding="utf-8"))
+    assert DEMO_SITE == demo["site"]["name"]  # the frozen names are the demo's own
+    assert set(DEMO_DEVICES) == {v["device"] for s in demo["sections"] for v in s["visits"]}
+    path = tmp_path / "old-device.sqlite"
+    with Store.open(path, device_id="dev-crew") as store:
+        loaded = store.load_demo()
+        site = next(s for s in store.sites() if s["name"] == DEMO_SITE)
+        section = store.create_section(site["uuid"], "XS3 crew's own")
+        own = store.start_visit(section["uuid"], "2026-12-01", unit="m", line_left=100.0,
+                                line_right=100.0)  # fmt: skip
+        store.save_station(own["uuid"], 0.0, 0.5)
+        store.finish_visit(own["uuid"])
+        other = store.create_section(store.create_site("Orrin Brook")["uuid"], "XS1")
+        with store.as_device("tablet-01"):  # a real tablet that happens to share the id
+            elsewhere = store.start_visit(other["uuid"], "2026-12-02", unit="m",
+                                          line_left=100.0, line_right=100.0)  # fmt: skip
+            store.save_station(elsewhere["uuid"], 0.0, 0.5)
+            store.finish_visit(elsewhere["uuid"])
+    _unmark_demo(path)
+    with Store.open(path) as store:
+        assert store.schema_version == LATEST
+        marked = {v["uuid"] for v in store.visits() if store.visit(v["uuid"])["settings"]}
+        assert marked == {v["uuid"] for v in loaded}
+        assert store.visit(loaded[0]["uuid"])["settings"] == {"demo": True}
+        packed = pack_visits(store, tmp_path / "outbox", skip_demo=True)
+        assert sorted(r["visit"] for r in packed) == sorted([own["uuid"], elsewhere["uuid"]])
