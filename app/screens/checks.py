@@ -1,7 +1,8 @@
-"""Checks before leaving: the field-check findings (tap one to go to its station), a written
+"""Checks before leaving: the field-check findings -- the readings' and the gauging's, each with
+its station (tap one to go to its step there: the readings, or the velocities) -- a written
 reason to finish despite blocking findings, and finishing -- which shows what will be sent (the
-stations read of those planned, the findings, the package's file name), asks once, then writes
-the visit's package to the outbox and says where."""
+stations read of those planned, the wet verticals with a velocity, the findings, the package's
+file name), asks once, then writes the visit's package to the outbox and says where."""
 
 from __future__ import annotations
 
@@ -22,27 +23,31 @@ SEVERITY_WORDS = {"block": "MUST FIX", "warn": "LOOK AT", "note": "NOTE"}
 
 
 class FindingRow(ButtonBehavior, BoxLayout):
-    """One finding; tapping it opens the readings at its station."""
+    """One finding; tapping it opens the step where it is fixed (``step``: readings or
+    velocity) at its station."""
 
     severity = StringProperty("note")
     heading = StringProperty("")
     body = StringProperty("")
     has_station = BooleanProperty(False)
     station = NumericProperty(0.0)
+    step = StringProperty("readings")
     colour = ColorProperty(theme.INK_SOFT)
     fill = ColorProperty(theme.PANEL)
     heading_text = StringProperty("")
 
     def on_kv_post(self, _base_widget) -> None:
         """Colours and the heading follow the finding."""
-        for name in ("severity", "state", "heading", "has_station"):
+        for name in ("severity", "state", "heading", "has_station", "step"):
             self.fbind(name, self._paint)
         self._paint()
 
     def _paint(self, *_args) -> None:
         self.colour = theme.SEVERITY_COLOURS.get(self.severity, theme.INK_SOFT)
         self.fill = theme.PANEL if self.state == "normal" else theme.TOGGLE_ON
-        self.heading_text = self.heading + ("   (tap to go there)" if self.has_station else "")
+        where = "   (tap to read the velocity there)" if self.step == "velocity" else (
+            "   (tap to go there)")  # fmt: skip
+        self.heading_text = self.heading + (where if self.has_station else "")
 
 
 class ChecksScreen(BaseScreen):
@@ -110,6 +115,7 @@ class ChecksScreen(BaseScreen):
                 body=f"{finding['message']}\n[b]To do:[/b] {finding['suggestion']}",
                 has_station=finding["station"] is not None,
                 station=finding["station"] if finding["station"] is not None else 0.0,
+                step=finding.get("step") or "readings",
             )
             row.bind(on_release=self.jump)
             box.add_widget(row)
@@ -123,9 +129,9 @@ class ChecksScreen(BaseScreen):
             self.say("Nothing blocks finishing.", "saved")
 
     def jump(self, row: FindingRow) -> None:
-        """Open the readings at the finding's station."""
+        """Open the finding's step (the readings, or the velocities) at its station."""
         if row.has_station:
-            self.app.go("readings", station=row.station)
+            self.app.go(row.step, station=row.station)
 
     def finish(self) -> None:
         """Show what finishing will send and ask once (the reason is needed first when MUST FIX

@@ -1,6 +1,8 @@
 """Office figures of one visit: wetted figures with their ± bands at a water level, discharge and
-the figures built on it for a chosen roughness row and energy slope, the bankfull summary and the
-change since the section's earlier visit -- with the caution that they are estimates.
+the figures built on it for a chosen roughness row and energy slope, the bankfull summary, the
+change since the section's earlier visit, and -- when velocities were read -- the measured
+discharge with its ±, the calibrated Manning's n and the section's measured rating; with the
+caution that they are estimates.
 
 Every figure comes from the service (:class:`stakeline.app.service.office.OfficeFigures`), computed on the
 worker thread; this screen only shows them.  It always opens at the visit's recorded water level
@@ -24,8 +26,10 @@ class RoughnessChip(Chip):
     key = StringProperty("")
 
 
-def value_text(row: dict, decimals: int = 3) -> str:
-    """``"7.687 ± 0.027 m²"`` for a figure row from the service (sign shown for changes)."""
+def value_text(row: dict, decimals: int | None = None) -> str:
+    """``"7.687 ± 0.027 m²"`` for a figure row from the service (sign shown for changes);
+    ``decimals`` (default: the row's own, else 3) places."""
+    decimals = row.get("decimals", 3) if decimals is None else decimals
     value = row["value"]
     if abs(value) < 0.5 * 10.0**-decimals:
         value = 0.0  # no "-0.000"
@@ -38,7 +42,7 @@ def value_text(row: dict, decimals: int = 3) -> str:
 
 def name_text(row: dict) -> str:
     """The figure's name; a figure without a unit says it is dimensionless."""
-    return row["name"] if row["unit"] else f"{row['name']} (dimensionless)"
+    return row["name"] if row["unit"] or row.get("plain") else f"{row['name']} (dimensionless)"
 
 
 class DetailScreen(KeypadScreen):
@@ -51,6 +55,9 @@ class DetailScreen(KeypadScreen):
     roughness_key = StringProperty("")
     running = BooleanProperty(False)
     figures = DictProperty({})
+    gauging = DictProperty({})
+    """The gauging's office figures (see :meth:`stakeline.app.service.gauging.office_gauging`),
+    {} while they are worked out."""
     back_text = StringProperty("Home")
     portrait = BooleanProperty(False)
     side_width = NumericProperty(380)
@@ -89,6 +96,9 @@ class DetailScreen(KeypadScreen):
         self.heading = f"Office figures · {inputs['section']}"
         self.place = f"{inputs['site']} · visit of {inputs['date']}"
         self._build_chips()
+        self.gauging = {}
+        self.service.gauging_figures_keyed(self.visit, self._show_gauging, self._gauging_failed,
+                                           key="detail-gauging")  # fmt: skip
         level = inputs["recorded_level"]
         self.ids.level_field.text = "" if level is None else f"{level:.3f}"
         self.activate(self.ids.level_field)
@@ -165,13 +175,23 @@ class DetailScreen(KeypadScreen):
         self.running = False
         self.say(f"The figures could not be computed: {exc}", "flagged")
 
+    def _show_gauging(self, gauging: dict) -> None:
+        if not self.visit:
+            return
+        self.gauging = gauging
+        self._show_rows(self.figures)
+
+    def _gauging_failed(self, exc: Exception) -> None:
+        self._show_gauging({"error": f"The measured discharge could not be worked out: {exc}"})
+
     # --- showing the figures -------------------------------------------------------------------
     def _show_rows(self, figures: dict) -> None:
         self._items = []
         if "error" in figures:
             self._note(figures["error"], strong=True)
-        else:
+        elif figures:
             self._figure_items(figures)
+        gauging_items(self, self.gauging, self.service.roughness_rows())
         self._place_items()
 
     def _place_items(self) -> None:
@@ -266,3 +286,67 @@ class DetailScreen(KeypadScreen):
             self.app.go("section")
         else:
             self.app.close_visit()
+
+
+def gauging_items(screen: DetailScreen, gauging: dict, roughness: list[dict]) -> None:
+    """The gauging's office figures as items of the screen: measured discharge with its ±,
+    water-surface slope, calibrated n with its roughness rows, the measured rating."""
+    screen._heading("Measured discharge (velocity-area method, this visit)")
+    if not gauging:
+        screen._note("Working out the measured discharge…")
+        return
+    if "error" in gauging:
+        screen._note(gauging["error"])
+        return
+    unit, q = gauging["unit"], gauging["discharge"]
+    screen._rows([
+        {"name": "Measured discharge", "value": q["value"], "plus_minus": q["plus_minus"],
+         "unit": q["unit"]},
+        {"name": "Mean velocity (Q/A)", "value": gauging["mean_velocity"], "unit": f"{unit}/s"},
+    ])  # fmt: skip
+    if not q["complete"]:
+        screen._note("Not every wet vertical has a velocity: the discharge leaves them out.")
+    screen._note("± about 95 % (k = 2) by the interpolated variance estimator (Cohn, Kiang & "
+                 "Mason 2013): random error only.")  # fmt: skip
+    slope, n = gauging["slope"], gauging["n"]
+    if slope is not None:
+        screen._rows([{"name": "Water-surface slope", "value": slope["value"],
+                       "plus_minus": slope["plus_minus"], "unit": "", "decimals": 5, "plain": True}])  # fmt: skip
+    if n is not None:
+        labels = {row["key"]: row["label"] for row in roughness}
+        screen._rows([{"name": "Calibrated Manning's n", "value": n["value"],
+                       "plus_minus": n["plus_minus"], "unit": "", "decimals": 4, "plain": True}])  # fmt: skip
+        held = ", ".join(labels.get(k, k) for k in n["rows"]) or "none"
+        band = ", ".join(labels.get(k, k) for k in n["rows_in_band"]) or "none"
+        screen._note(f"Roughness rows holding this n: {held}. Rows its ± band meets: {band}.")
+    rating = gauging["rating"]
+    if rating is not None:
+        screen._heading("Measured rating of the section: Q = C (h − e)^b")
+        rows = [
+            {
+                "name": "C (coefficient)",
+                "value": rating["coefficient"],
+                "unit": "",
+                "decimals": 4,
+                "plain": True,
+            },
+            {
+                "name": "b (exponent)",
+                "value": rating["exponent"],
+                "unit": "",
+                "decimals": 3,
+                "plain": True,
+            },
+            {"name": "e (stage of zero flow)", "value": rating["offset"], "unit": unit},
+        ]
+        if rating["standard_error"] is not None:
+            rows.append({"name": "Standard error (log units)", "value": rating["standard_error"],
+                         "unit": "", "decimals": 4, "plain": True})  # fmt: skip
+            rows.append({"name": "Standard error (about)",
+                         "value": rating["standard_error_percent"], "unit": "%", "decimals": 1})  # fmt: skip
+        screen._rows(rows)
+        screen._note(f"Fitted to {len(rating['measurements'])} gaugings of this section "
+                     f"(e: {rating['offset_source']}; WMO-No. 1044, ISO 18320).")  # fmt: skip
+    for note in gauging["notes"]:
+        screen._note(note)
+    screen._note(gauging["caution"], strong=True)

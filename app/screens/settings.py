@@ -1,11 +1,14 @@
 """Settings of this device: length unit for new surveys, crew names, reading precision (decimals
 shown), the crew's ± of one reading and of one station (for the office figures' bands), check
-tolerances and the outbox folder (shown in full, changeable)."""
+tolerances, the outbox folder (shown in full, changeable), and the chain of custody: the
+device's id and its signing key's fingerprint, with a button that writes the device key file
+into the outbox."""
 
 from __future__ import annotations
 
 from kivy.properties import DictProperty, StringProperty
 from stakeline.app.screens.base import BaseScreen
+from stakeline.app.service import short_path
 from stakeline.app.widgets.common import Chip
 
 PRECISIONS = {"m": (0.001, 0.005, 0.01), "ft": (0.01, 0.02, 0.05)}
@@ -46,6 +49,9 @@ class SettingsScreen(BaseScreen):
     defaults = DictProperty({})
     reading_words = StringProperty("")
     station_words = StringProperty("")
+    device_text = StringProperty("")
+    fingerprint = StringProperty("")
+    """This device's key fingerprint (16 hex digits in four groups), for reading aloud."""
 
     @property
     def unit(self) -> str:
@@ -66,7 +72,19 @@ class SettingsScreen(BaseScreen):
         self.ids.crew.text = ", ".join(settings["crew"])
         self.ids.outbox.text = self.service.outbox()
         self.ids.outbox.hint_text = f"default: {self.service.default_outbox}"
+        custody = self.service.device_custody()
+        self.device_text, self.fingerprint = custody["device"], custody["fingerprint"]
         self.build_rows()
+
+    def write_key(self) -> None:
+        """Write this device's public key file into the outbox, for the office to trust."""
+        written = self.attempt(self.service.write_device_key)
+        if written is not None:
+            self.say(
+                f"Device key written to {short_path(written['path'])}. Read the fingerprint "
+                f"{written['fingerprint']} to the office when they trust it.",
+                "saved",
+            )
 
     def options(self, row: str) -> list[tuple]:
         """(value, chip text) of each choice of one row, in the chosen unit."""

@@ -24,64 +24,17 @@ from kivy.properties import (
     ObjectProperty,
     StringProperty,
 )
-from kivy.uix.behaviors import ButtonBehavior
-from kivy.uix.boxlayout import BoxLayout
 from stakeline.app import theme
 from stakeline.app.screens import velocity_text as words
 from stakeline.app.screens.base import KeypadScreen
-from stakeline.app.widgets.common import Chip, FigureRow, NumberField
+from stakeline.app.screens.velocity_rows import MethodChip
+from stakeline.app.widgets.common import FigureRow, NumberField
 from stakeline.app.widgets.popups import HistoryPopup, NotePopup
 
 KEY = "velocity"
 """Request key of the screen's background work (a late answer never overwrites a newer one)."""
 
 PARTS = {"velocity": "Velocity at", "revolutions": "Revolutions at", "seconds": "Seconds at"}
-
-
-class VerticalRow(ButtonBehavior, BoxLayout):
-    """One wet vertical in the list; tap it to read that station."""
-
-    station = NumericProperty(0.0)
-    station_text = StringProperty("")
-    depth_text = StringProperty("")
-    velocity_text = StringProperty("")
-    discharge_text = StringProperty("")
-    share_text = StringProperty("")
-    share_tone = StringProperty("none")
-    state_text = StringProperty("")
-    tone = StringProperty("none")
-    current = BooleanProperty(False)
-    screen = ObjectProperty(None, allownone=True)
-    fill = ColorProperty(theme.PANEL)
-    state_colour = ColorProperty(theme.INK_SOFT)
-    share_colour = ColorProperty(theme.INK)
-
-    def on_kv_post(self, _base_widget) -> None:
-        """Colours follow the row's state."""
-        for name in ("current", "state", "tone", "share_tone"):
-            self.fbind(name, self._paint)
-        self._paint()
-
-    def _paint(self, *_args) -> None:
-        if self.current:
-            self.fill = theme.ACTIVE_FIELD
-        else:
-            self.fill = theme.PANEL if self.state == "normal" else theme.TOGGLE_ON
-        self.state_colour = theme.STATE_COLOURS[self.tone]
-        self.share_colour = theme.STATE_COLOURS[self.share_tone]
-        if self.share_tone == "none":
-            self.share_colour = theme.INK
-
-    def on_release(self):
-        """Read this station."""
-        if self.screen is not None:
-            self.screen.go_to(self.station)
-
-
-class MethodChip(Chip):
-    """A method of the mean velocity in a vertical; ``method`` is the stored name."""
-
-    method = StringProperty("")
 
 
 class VelocityScreen(KeypadScreen):
@@ -120,7 +73,7 @@ class VelocityScreen(KeypadScreen):
     def on_kv_post(self, _base_widget) -> None:
         """Method chips, and follow the window's shape and every shown value."""
         for method in words.METHODS:
-            chip = MethodChip(text=words.method_words(method), method=method)
+            chip = MethodChip(text=words.method_chip(method), method=method)
             chip.dump_name = f"method:{method}"
             chip.bind(on_release=lambda c: self.choose_method(c.method))
             self.ids.methods.add_widget(chip)
@@ -197,7 +150,7 @@ class VelocityScreen(KeypadScreen):
         if coefficient is not self.active_field:
             coefficient.text = f"{state['surface_coefficient']:g}"
         for chip in self.ids.methods.children:
-            chip.text = words.method_words(chip.method, state["surface_coefficient"])
+            chip.text = words.method_chip(chip.method, state["surface_coefficient"])
 
     def _show_rows(self) -> None:
         verticals = [v for v in self.state.get("verticals", ()) if v["wet"]]
@@ -304,7 +257,7 @@ class VelocityScreen(KeypadScreen):
                     field.point, field.part = point, part
                     field.dump_name = f"point:{point}:{part}"
                     box.add_widget(field)
-                    self._fields[(point, part)] = field
+                    self._fields[(point, part)] = field.proxy_ref  # as ``ids`` and the keypad
             self._fields_key = key
             self.point_count = len(points)
         saved = (self._vertical(self.station) or {}).get("points", {})

@@ -28,7 +28,7 @@ SHARE_LIMIT, SHARE_AIM = 10.0, 5.0
 
 
 def method_words(method: str | None, coefficient: float = 0.85) -> str:
-    """The method's chip text: ``"1 point (0.6)"``, ``"Surface × 0.85"``...
+    """The method in words: ``"1 point (0.6)"``, ``"Surface × 0.85"``...
 
     >>> method_words("two-point"), method_words("surface", 0.86)
     ('2 points (0.2, 0.8)', 'Surface × 0.86')
@@ -41,6 +41,21 @@ def method_words(method: str | None, coefficient: float = 0.85) -> str:
         "five-point": "5 points",
     }
     return words.get(method or "", method or "—")
+
+
+def method_chip(method: str, coefficient: float = 0.85) -> str:
+    """The method's chip text on two short lines (four chips share one row).
+
+    >>> method_chip("three-point")
+    '3 points\n0.2 0.6 0.8'
+    """
+    chips = {
+        "one-point": "1 point\n0.6",
+        "two-point": "2 points\n0.2 0.8",
+        "three-point": "3 points\n0.2 0.6 0.8",
+        "surface": f"Surface\n× {coefficient:g}",
+    }
+    return chips.get(method, method_words(method, coefficient))
 
 
 def number(value: float | None, decimals: int = 3) -> str:
@@ -77,6 +92,7 @@ def share_tone(percent: float | None) -> str:
 def vertical_row(vertical: dict, unit: str, current: float | None, screen=None) -> dict:
     """One wet vertical in the list: station, depth, velocity, its panel's Q and share, state."""
     state = READ_WORDS.get(vertical["read"], vertical["read"])
+    counted = vertical["velocity"] is not None  # its panel is in the discharge
     if vertical.get("wading") and vertical["wading"]["severity"] == "warn":
         state = "WADING LIMIT"
     return {
@@ -84,9 +100,9 @@ def vertical_row(vertical: dict, unit: str, current: float | None, screen=None) 
         "station_text": f"{vertical['station']:g}",
         "depth_text": number(vertical["depth"], 2),
         "velocity_text": number(vertical["velocity"]),
-        "discharge_text": number(vertical["discharge"], 4),
-        "share_text": share_text(vertical["percent"]),
-        "share_tone": share_tone(vertical["percent"]),
+        "discharge_text": number(vertical["discharge"] if counted else None, 4),
+        "share_text": share_text(vertical["percent"] if counted else None),
+        "share_tone": share_tone(vertical["percent"] if counted else None),
         "state_text": state,
         "tone": "flagged" if state == "WADING LIMIT" else (
             "saved" if vertical["read"] == "complete" else "none"),

@@ -1,6 +1,7 @@
 """The installed app in a real X window, driven only by real input events.
 
-:class:`Desktop` starts a virtual X server (Xvfb, on one of the displays :80 to :89 that is free)
+:class:`Desktop` starts a virtual X server (Xvfb, on one of the displays :80 to :89 that is free;
+``STAKELINE_X_DISPLAYS=90-99`` picks another range)
 with a small desktop window manager (openbox: without one, "maximised" means nothing) and takes
 screenshots of it (ImageMagick's ``import``).  :class:`RealApp` starts ``stakeline`` as its own
 process on that display with a fresh home folder, finds where its controls are from the layout
@@ -22,7 +23,17 @@ import time
 TOOLS = ("Xvfb", "openbox", "xdotool", "import")
 """Programs these tests need (Debian packages xvfb, openbox, xdotool, imagemagick)."""
 
-DISPLAYS = range(80, 90)
+def _displays(text: str | None) -> range:
+    """X display numbers to try: ``STAKELINE_X_DISPLAYS`` as ``first-last`` (e.g. ``90-99``),
+    else :80 to :89."""
+    try:
+        first, last = (int(part) for part in (text or "").split("-"))
+    except ValueError:
+        return range(80, 90)
+    return range(first, last + 1)
+
+
+DISPLAYS = _displays(os.environ.get("STAKELINE_X_DISPLAYS"))
 SETTLED = 0.3  # s: the layout has not moved for this long before a click
 
 
@@ -77,7 +88,9 @@ class Desktop:
                 self.display, self.xvfb = f":{number}", xvfb
                 break
         if self.display is None:
-            raise RuntimeError("no free X display between :80 and :89")
+            raise RuntimeError(
+                f"no free X display between :{DISPLAYS[0]} and :{DISPLAYS[-1]}"
+            )
         self.openbox = subprocess.Popen(
             ["openbox"], env=self.env(), stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL
         )

@@ -225,3 +225,39 @@ def test_crew_plus_minus_from_settings_sets_the_bands(ui, xs1):
     assert areas[0.01] ** 2 - areas[0.002] ** 2 == pytest.approx(
         4 * reading_terms * (0.01**2 - 0.002**2), rel=1e-4
     )
+
+
+def test_the_measured_discharge_calibrated_n_and_rating_as_the_command_line(ui, xs1, capsys):
+    """The tablet's office figures of a gauged visit show the measured discharge with its ±,
+    the calibrated n with its ± and roughness rows, and the section's measured rating (C, b, e,
+    standard error) -- the same numbers as ``stakeline measured-rating --json`` (one analysis,
+    :func:`stakeline.analysis.analyse_visit`, behind both)."""
+    import json
+
+    from stakeline.app.cli import main
+
+    later, _ = xs1
+    screen = open_from_home(ui)
+    ui.wait(lambda: screen.gauging)
+    ui.frames(2)
+    path = ui.app.service.store.path
+    assert main(["measured-rating", "--store", path, "--section", "XS1 riffle", "--json"]) == 0
+    cli = json.loads(capsys.readouterr().out)
+    own = next(m for m in cli["measurements"] if m["visit"] == later["uuid"])
+    shown = ui.texts()
+    assert "Measured discharge (velocity-area method, this visit)" in shown
+    assert f"{own['discharge']:.3f} ± {own['plus_minus']:.3f} m³/s" in shown
+    assert f"{own['n']:.4f} ± {own['n_plus_minus']:.4f}" in shown
+    assert "Calibrated Manning's n" in shown and "Roughness rows holding this n:" in shown
+    labels = {row["key"]: row["label"] for row in ui.app.service.roughness_rows()}
+    assert all(labels[k] in shown for k in screen.gauging["n"]["rows"])
+    assert "Measured rating of the section: Q = C (h − e)^b" in shown
+    assert f"{cli['coefficient']:.4f}" in shown and f"{cli['exponent']:.3f}" in shown
+    assert f"{cli['offset']:.3f} m" in shown
+    assert f"{cli['standard_error']:.4f}" in shown
+    assert f"{cli['standard_error_percent']:.1f} %" in shown
+    assert f"Fitted to {len(cli['measurements'])} gaugings" in shown
+    assert "licensed engineering review" in shown
+    screen.ids.scroller.scroll_y = 0  # the gauging figures close the list
+    ui.frames(2)
+    ui.screenshot("detail-gauging")

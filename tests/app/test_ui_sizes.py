@@ -32,7 +32,8 @@ SIZES = {
 }
 """Label -> window size in dp (= px at density 1)."""
 
-SCREENS = ("home", "settings", "stakes", "spacing", "readings", "section", "checks", "detail")
+SCREENS = ("home", "settings", "stakes", "spacing", "readings", "section", "velocity", "surface",
+           "checks", "detail")  # fmt: skip
 
 # an invented bed, m down from a line at 100.000; station 3.0 is 0.40 m short (a spike)
 READINGS = [0.30, 0.55, 0.80, 1.02, 1.18, 1.30, 0.95, 1.38, 1.40, 1.36, 1.25, 1.10]
@@ -50,6 +51,15 @@ def surveyed(ui):
     for i, reading in enumerate(READINGS):
         service.save_reading(visit, i * 0.5, f"{reading}", note="plumb swung" if i == 6 else "")
     service.record_water_level(visit, "98.85")  # below both ends read so far
+    # velocities at two verticals, one of them deep and fast enough to stop wading; a meter;
+    # two water-surface points
+    meter = service.add_meter("R-7", "rotating", "0.012", "0.648")
+    service.save_velocity_point(visit, 2.5, "v06", revolutions_text="20", seconds_text="40",
+                                meter_uuid=meter["uuid"])  # fmt: skip
+    service.save_velocity_point(visit, 4.0, "v06", "4.0", method="one-point")
+    service.save_vertical(visit, 4.0, note="boulder upstream", angle_text="10")
+    service.add_water_surface_point(visit, "-20", "98.87")
+    service.add_water_surface_point(visit, "25", "98.83")
     service.remember_position(visit, 6.0)
     ui.app.visit_uuid = visit
     return visit
@@ -74,7 +84,8 @@ def settle(ui) -> None:
 
 
 def open_dialogs(ui):
-    """Each dialog of the readings and checks screens, opened in turn: yields its name."""
+    """Each dialog of the readings, velocity and checks screens, opened in turn: yields its
+    name."""
     ui.go("readings", station=3.0)
     settle(ui)
     ui.screen.open_note()
@@ -82,6 +93,17 @@ def open_dialogs(ui):
     ui.dialog().dismiss(animation=False)
     ui.screen.open_history()
     yield "history"
+    ui.dialog().dismiss(animation=False)
+    ui.go("velocity", station=4.0)
+    settle(ui)
+    ui.screen.open_meters()
+    yield "meter"
+    ui.dialog().dismiss(animation=False)
+    ui.screen.open_note()
+    yield "vertical-note"
+    ui.dialog().dismiss(animation=False)
+    ui.screen.open_history()
+    yield "vertical-history"
     ui.dialog().dismiss(animation=False)
     ui.go("checks")
     settle(ui)
