@@ -8,7 +8,8 @@ origin top left as ``xdotool`` counts (``whole`` is false when a scrolling list 
 of it).  A real-window test reads it to know where to click, so a layout change never breaks
 the test.  Names: the control's id in its rule (``save``, ``tab_checks``, ``keep``...),
 ``key:<action>`` for keypad keys, ``chip:<text>`` / ``button:<text>`` for controls without an id,
-``row:<station>`` / ``finding:<n>`` for the rows of a list (top to bottom); a control built in
+``row:<station>`` / ``vertical:<station>`` / ``finding:<n>`` for the rows of a list (top to
+bottom); a control built in
 code names itself (``dump_name``: ``point:v02:revolutions``, ``meter:<serial>``...).
 """
 
@@ -84,6 +85,8 @@ def controls(root, window_height: float) -> dict:
         elif kind == "ReadingRow":
             name = f"row:{getattr(widget, 'station_text', rows)}"
             rows += 1
+        elif kind == "VerticalRow":
+            name = f"vertical:{widget.station_text}"
         elif kind == "FindingRow":
             name, findings = f"finding:{findings}", findings + 1
         elif hasattr(widget, "action") and hasattr(widget, "keypad"):
@@ -141,7 +144,8 @@ class LayoutDump:
         if typing is not None:
             focus = _id_names(root).get(id(typing.proxy_ref), "text")
         elif getattr(screen, "active_field", None) is not None and screen.active_field.active:
-            focus = _id_names(screen).get(id(screen.active_field.proxy_ref))
+            field = screen.active_field
+            focus = getattr(field, "dump_name", "") or _id_names(screen).get(id(field.proxy_ref))
         keypad = screen.ids.get("keypad")
         state = {name: getattr(screen, name) for name in STATE if hasattr(screen, name)}
         return {
