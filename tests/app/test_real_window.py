@@ -235,7 +235,7 @@ def test_every_screen_in_a_real_4_3_window(tmp_path):
             seen["home"] = layout
             app.screenshot("real-home-1024x768")
             app.click("section:XS1 riffle:choose")  # Start visit on a demo section
-            for tab in ("stakes", "spacing", "readings", "section", "checks"):
+            for tab in ("stakes", "spacing", "readings", "section", "velocity", "checks"):
                 if tab != "stakes":
                     app.click(f"tab_{tab}")
                 seen[tab] = app.wait(

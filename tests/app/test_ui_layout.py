@@ -10,7 +10,8 @@ from kivy.uix.scrollview import ScrollView
 
 LANDSCAPE, PORTRAIT, LAPTOP = (1280, 800), (800, 1280), (1920, 1080)
 
-SCREENS = ("home", "settings", "stakes", "spacing", "readings", "section", "checks", "detail")
+SCREENS = ("home", "settings", "stakes", "spacing", "readings", "section", "velocity", "surface",
+           "checks", "detail")  # fmt: skip
 
 
 def _in_scroller(widget) -> bool:
