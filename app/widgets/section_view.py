@@ -41,6 +41,8 @@ class SectionView(StencilView):
 
     water_level = ObjectProperty(None, allownone=True)
     level_step = NumericProperty(0.005)
+    draggable = BooleanProperty(True)
+    """False where the water level is only shown (the velocity step): a drag then pans."""
     flip = BooleanProperty(False)
     """True when the tape starts at the right stake: stations then grow to the left, so the
     drawing is mirrored to keep the left bank (looking downstream) on the left."""
@@ -312,7 +314,7 @@ class SectionView(StencilView):
             return True
         touch.grab(self)
         self._touches[touch.uid] = touch.pos
-        if len(self._touches) == 1 and self.water_level is not None:
+        if len(self._touches) == 1 and self.water_level is not None and self.draggable:
             _, y = self.to_screen(0.0, float(self.water_level))
             self._dragging_level = abs(touch.y - float(y)) <= dp(_GRAB_DISTANCE)
         else:

@@ -23,6 +23,7 @@ import time
 TOOLS = ("Xvfb", "openbox", "xdotool", "import")
 """Programs these tests need (Debian packages xvfb, openbox, xdotool, imagemagick)."""
 
+
 def _displays(text: str | None) -> range:
     """X display numbers to try: ``STAKELINE_X_DISPLAYS`` as ``first-last`` (e.g. ``90-99``),
     else :80 to :89."""
@@ -88,9 +89,7 @@ class Desktop:
                 self.display, self.xvfb = f":{number}", xvfb
                 break
         if self.display is None:
-            raise RuntimeError(
-                f"no free X display between :{DISPLAYS[0]} and :{DISPLAYS[-1]}"
-            )
+            raise RuntimeError(f"no free X display between :{DISPLAYS[0]} and :{DISPLAYS[-1]}")
         self.openbox = subprocess.Popen(
             ["openbox"], env=self.env(), stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL
         )

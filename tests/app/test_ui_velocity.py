@@ -159,6 +159,7 @@ def test_a_whole_gauging_by_taps(ui, riffle):
     assert "panel at station 3 m carries" in screen.findings_text
     # The velocities over the section: one bar per vertical read.
     assert sorted(s for s, _ in screen.marks) == [1.0, 2.0, 3.0, 4.0, 5.0]
+    np.testing.assert_allclose(sorted(screen.ids.view._velocity_x), [1, 2, 3, 4, 5])
     ui.screenshot("velocity")
     # Undo takes the last velocity back; the discharge falls again.
     ui.tap(screen.ids.undo)
