@@ -103,10 +103,20 @@ class VelocityScreen(KeypadScreen):
         self.ids.view.water_level = self.service.water_level(self.visit)
         self.ids.view.set_section(*self.service.profile(self.visit), refit=True)
         self._methods, self._notes = {}, {}
+        self._clear()
         self.use_meter(self.service.chosen_meter(self.visit), remember=False)
         self.say("Working out the verticals from the section and the water level…", "none")
         self._wanted = station
         self.service.velocity_state_async(self.visit, self._loaded, self._failed, key=KEY)
+
+    def _clear(self) -> None:
+        """Show nothing of an earlier visit while this one's state is worked out."""
+        self.state, self.station = {}, None
+        self.wading_text = self.findings_text = self.discharge_text = ""
+        self.rows, self.marks = [], []
+        self.ids.list.data = []
+        self._place_summary([])
+        self.go_to(None)
 
     def _loaded(self, state: dict) -> None:
         if not self.visit:
