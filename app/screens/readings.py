@@ -173,6 +173,7 @@ class ReadingsScreen(KeypadScreen):
         visit = self.service.visit(self.visit)
         self.unit = visit["unit"]
         self.method = visit["method"]
+        self.ids.view.strip = self.service.water_strip
         self.ids.view.flip = visit["origin"] == "right"
         self.decimals = theme.decimals_for(self.service.settings()["precision"])
         self.mode = "reading"

@@ -54,6 +54,7 @@ class SectionScreen(KeypadScreen):
         visit = self.service.visit(self.visit)
         self.unit = visit["unit"]
         self.ids.view.flip = visit["origin"] == "right"
+        self.ids.view.strip = self.service.water_strip
         self._section = self.service.section(self.visit)
         self._profile = self.service.profile(self.visit)
         self.ids.view.level_step = max(float(self.service.settings()["precision"]), 0.001)

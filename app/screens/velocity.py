@@ -100,6 +100,7 @@ class VelocityScreen(KeypadScreen):
         visit = self.service.visit(self.visit)
         self.unit = visit["unit"]
         self.ids.view.flip = visit["origin"] == "right"
+        self.ids.view.strip = self.service.water_strip
         self.ids.view.water_level = self.service.water_level(self.visit)
         self.ids.view.set_section(*self.service.profile(self.visit), refit=True)
         self._methods, self._notes = {}, {}

@@ -39,7 +39,7 @@ from stakeline.errors import SurveyError
 from stakeline.survey.codes import CHIPS
 from stakeline.survey.datum import Datum
 from stakeline.survey.figures import figure_title
-from stakeline.survey.geometry import FIGURES, Section
+from stakeline.survey.geometry import FIGURES, Section, water_strip
 from stakeline.survey.reduction import ASSUMED_DATUM  # noqa: F401  (re-exported for the screens)
 
 FEATURE_CODES = tuple(CHIPS)
@@ -82,6 +82,10 @@ class FieldService(
         self.default_outbox = outbox
         self.worker = Worker()
         self._readings: dict[str, list[dict]] = {}  # visit -> current readings, until a change
+
+    water_strip = staticmethod(water_strip)
+    """The water's bottom edge at a level, for the drawings: see
+    :func:`stakeline.survey.geometry.water_strip`."""
 
     def checkpoint(self) -> bool:
         """Fold the store's journal into its file (app paused or stopping); True when done."""

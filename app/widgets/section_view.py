@@ -25,7 +25,6 @@ from kivy.metrics import dp, sp
 from kivy.properties import BooleanProperty, NumericProperty, ObjectProperty
 from kivy.uix.stencilview import StencilView
 from stakeline.app import theme as T
-from stakeline.survey.geometry import water_strip
 
 _MARGIN_LEFT, _MARGIN_BOTTOM, _MARGIN_RIGHT, _MARGIN_TOP = 78, 40, 40, 16  # dp
 _GRAB_DISTANCE = 32  # dp: how near the water line a drag must start to move it
@@ -46,6 +45,9 @@ class SectionView(StencilView):
     flip = BooleanProperty(False)
     """True when the tape starts at the right stake: stations then grow to the left, so the
     drawing is mirrored to keep the left bank (looking downstream) on the left."""
+    strip = ObjectProperty(None, allownone=True)
+    """``strip(stations, elevations, level) -> (stations, bottoms)``: the water's bottom edge
+    with the water's edges inserted (the screen passes the service's); None draws no water."""
     __events__ = ("on_level_dragged",)
 
     def __init__(self, **kwargs):
@@ -200,14 +202,14 @@ class SectionView(StencilView):
         """Redraw the water fill and the level line only (the per-keystroke / per-drag update)."""
         level = self.water_level
         self._draw_velocities()
-        if level is None or self._x.size < 2:
+        if level is None or self._x.size < 2 or self.strip is None:
             self._water.vertices = []
             self._water.indices = []
             self._level_line.points = []
             self._grip.size = (0, 0)
             return
         level = float(level)
-        stations, bottoms = water_strip(self._x, self._z, level)
+        stations, bottoms = self.strip(self._x, self._z, level)
         ax, kx, az, kz = self._scale()
         count = stations.size
         vertices = np.empty((count, 2, 2), dtype=np.float32)

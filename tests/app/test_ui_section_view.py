@@ -32,6 +32,7 @@ def test_water_strip_fills_exactly_the_wetted_area(level):
 def view(ui):
     """A SectionView on top of the running app, 1000 x 600 px."""
     widget = SectionView(size_hint=(None, None), size=(1000, 600), pos=(100, 100))
+    widget.strip = ui.app.service.water_strip  # as the screens pass it
     ui.window.add_widget(widget)
     widget.set_section(X, Z)
     widget.water_level = 9.0

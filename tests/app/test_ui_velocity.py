@@ -256,3 +256,18 @@ def test_gauging_findings_on_checks_go_to_the_velocity_step(ui, riffle):
     popup = ui.dialog("ConfirmPopup")
     assert "Velocities read: 1 of 5 wet stations" in popup.summary
     popup.dismiss(animation=False)
+
+
+@pytest.mark.parametrize("step", ["readings", "section", "velocity"])
+def test_every_drawing_fills_the_water(ui, riffle, step):
+    """The drawing asks the service for the water's edge: each step's section shows the water
+    between its edges at 0.6 m and 5.4 m (interpolated between the readings)."""
+    ui.go(step)
+    settle(ui)
+    view = ui.screen.ids.view
+    columns = np.asarray(view._water.vertices, dtype=float).reshape(-1, 2)[:, 0]
+    assert columns.size > 0
+    left_edge, right_edge = edge(0, 99.5, 1, 99.0), edge(5, 99.0, 6, 99.5)
+    shown = sorted(view.to_screen(np.array([left_edge, right_edge]), LEVEL)[0])
+    assert any(abs(c - shown[0]) < 0.01 for c in columns)
+    assert any(abs(c - shown[1]) < 0.01 for c in columns)
