@@ -53,7 +53,7 @@ def gauging_pages(data) -> list[Figure]:
     """The gauging pages of a report (none when the visit has no gauging or rating)."""
     pages = []
     if data.gauging is not None:
-        pages += [_gauging_page(data), *_panel_pages(data)]
+        pages += [*_gauging_pages(data), *_panel_pages(data)]
     elif data.gauging_note:
         pages.append(_note_page(data, data.gauging_note))
     if data.measured_rating is not None:
@@ -168,15 +168,14 @@ def _slope_and_n_text(data) -> str:
     return "\n".join(lines)
 
 
-def _finding_rows(data) -> list[list[str]]:
-    return [
-        [f.severity, f.kind, "" if f.station is None else f"{f.station:g}",
-         tools._clip(f.message, 78), tools._clip(f.suggestion, 40)]
-        for f in data.gauging.findings
-    ][:12]  # fmt: skip
+def _finding_blocks(data) -> list[tuple[str, str]]:
+    unit = data.unit
+    found = [("p", tools.finding_text(f.severity, f.kind, f.station, f.message, f.suggestion, unit))
+             for f in data.gauging.findings]  # fmt: skip
+    return [("h", "Gauging findings"), *(found or [("p", "none")])]
 
 
-def _gauging_page(data) -> Figure:
+def _gauging_pages(data) -> list[Figure]:
     fig = tools._page()
     tools._header(fig, data, "velocity-area gauging")
     velocity_profile(fig.add_axes((0.1, 0.6, 0.76, 0.32)), data)
@@ -184,11 +183,10 @@ def _gauging_page(data) -> Figure:
     top = tools._paragraph(fig, top, _measured_text(data), 7.4, width=135)
     top = tools._heading(fig, top, "Water-surface slope and Manning's n")
     top = tools._paragraph(fig, top, _slope_and_n_text(data), 7.4, width=135)
-    top = tools._heading(fig, top, "Gauging findings")
-    header = ["severity", "kind", f"station ({data.unit})", "message", "suggestion"]
-    tools._table(fig, top, header, _finding_rows(data), [0.08, 0.1, 0.1, 0.47, 0.25], size=6.2)
     _cautions(fig)
-    return fig
+    pages = [fig]
+    tools._flow(data, pages, top, _finding_blocks(data), "velocity-area gauging", bottom=0.16)
+    return pages
 
 
 def _panel_rows(data) -> list[list[str]]:

@@ -121,8 +121,13 @@ def _paragraph(
 ) -> float:
     """Wrapped text from figure height ``top`` down; returns the height below it."""
     lines = [line for part in text.split("\n") for line in (textwrap.wrap(part, width) or [""])]
-    fig.text(0.05, top, "\n".join(lines), fontsize=size, va="top", **kw)
-    return top - len(lines) * size * 1.45 / (A4[1] * 72) - 0.01
+    drawn = fig.text(0.05, top, "\n".join(lines), fontsize=size, va="top", **kw)
+    return top - _height(fig, drawn) - 0.01
+
+
+def _height(fig: Figure, drawn) -> float:
+    """The height of a drawn text as a fraction of the figure's (measured, not estimated)."""
+    return drawn.get_window_extent(fig.canvas.get_renderer()).height / fig.bbox.height
 
 
 def _figure_rows(data: ReportData) -> list[list[str]]:
@@ -402,55 +407,97 @@ def _station_pages(data: ReportData) -> list[Figure]:
     rows = [
         [f"{s['station']:.3f}", "" if s.get("reading") is None else f"{s['reading']:.3f}",
          f"{s['elevation']:.3f}", (s.get("code") or "").replace("_", " "),
-         ("FLAGGED  " if s["station"] in flagged else "") + _clip(s.get("note") or "", 70)]
+         ("FLAGGED  " if s["station"] in flagged else "") + _clip(s.get("note") or "", NOTE_CHARS)]
         for s in listed
     ]  # fmt: skip
     header = [f"station ({unit})", f"reading ({unit})", f"elevation ({unit})", "code", "note"]
     chunks = [rows[i : i + STATIONS_PER_PAGE] for i in range(0, len(rows), STATIONS_PER_PAGE)]
-    if (
-        not chunks or len(chunks[-1]) > STATIONS_PER_PAGE - 18
-    ):  # leave room for findings on the last page
-        chunks.append([])
-    pages = []
-    for k, chunk in enumerate(chunks):
+    pages, top = [], 0.91
+    for k, chunk in enumerate(chunks or [[]]):
         fig = _page()
         _header(fig, data, "stations and field checks")
+        pages.append(fig)
         top = 0.91
         if left_out and k == 0:
             top = _paragraph(fig, top, left_out)
         if chunk:
             top = _column_table(fig, top, header, chunk, [0.13, 0.13, 0.13, 0.14, 0.47], size=7)
-        if k == len(chunks) - 1:
-            _findings(fig, data, top)
-        pages.append(fig)
+    _flow(data, pages, top, _check_blocks(data, listed), "stations and field checks")
     return pages
 
 
-def _findings(fig: Figure, data: ReportData, top: float) -> None:
-    top = _heading(fig, top - 0.005, "Field-check findings")
+FLOW_BOTTOM = 0.06
+"""Figure height below which flowing text goes on to a new page (the footer is under it)."""
+
+FLOW_CHARS = 135
+"""Characters per line of flowing text at 7.2 pt across the page's text width."""
+
+
+def _check_blocks(data: ReportData, listed: list[dict]) -> list[tuple[str, str]]:
+    """The field checks as headings (``"h"``) and paragraphs (``"p"``), every word of every
+    finding, override and long note kept."""
+    unit = data.unit
+    blocks: list[tuple[str, str]] = [("h", "Field-check findings")]
     if data.findings is None:
-        top = _paragraph(fig, top, "Field checks were not available when this report was made.")
-    rows = [
-        [f.get("severity", ""), f.get("kind", ""), "" if f.get("station") is None else f"{f['station']:g}",
-         _clip(f.get("message", ""), 70), _clip(f.get("suggestion", ""), 42)]
-        for f in (data.findings or [])
-    ][:14]  # fmt: skip
-    header = ["severity", "kind", f"station ({data.unit})", "message", "suggestion"]
-    top = _table(fig, top, header, rows, [0.08, 0.1, 0.1, 0.45, 0.27], size=6.2)
-    top = _heading(fig, top, "Overrides (findings accepted with a written reason)")
-    rows = [
-        [o.get("kind", ""), "" if o.get("station") is None else f"{o['station']:g}",
-         _clip(o.get("reason", ""), 90), o.get("device", "")]
-        for o in data.overrides
-    ][:10]  # fmt: skip
-    _table(
-        fig,
-        top,
-        ["kind", f"station ({data.unit})", "reason", "device"],
-        rows,
-        [0.12, 0.12, 0.56, 0.2],
-        size=6.5,
-    )
+        blocks.append(("p", "Field checks were not available when this report was made."))
+    for f in data.findings or []:
+        blocks.append(("p", finding_text(f.get("severity", ""), f.get("kind", ""), f.get("station"),
+                                         f.get("message", ""), f.get("suggestion", ""), unit)))  # fmt: skip
+    if data.findings == []:
+        blocks.append(("p", "none"))
+    blocks.append(("h", "Overrides (findings accepted with a written reason)"))
+    for o in data.overrides:
+        where = "" if o.get("station") is None else f" at {o['station']:g} {unit}"
+        device = f"  (device {o['device']})" if o.get("device") else ""
+        kind = str(o.get("kind", "")).replace("_", " ")
+        blocks.append(("p", f"{kind}{where}: {o.get('reason', '')}{device}"))
+    if not data.overrides:
+        blocks.append(("p", "none"))
+    long_notes = [s for s in listed if len(s.get("note") or "") > NOTE_CHARS]
+    if long_notes:
+        blocks.append(("h", "Station notes in full (shortened in the table)"))
+        blocks += [("p", f"{s['station']:.3f} {unit}: {s['note']}") for s in long_notes]
+    return blocks
+
+
+def finding_text(severity: str, kind: str, station, message: str, suggestion: str, unit: str):
+    """One finding as one line of prose: severity, kind and station first, then what to do."""
+    where = "" if station is None else f" at {station:g} {unit}"
+    to_do = f"  To do: {suggestion}" if suggestion else ""
+    return f"{str(severity).upper()} · {str(kind).replace('_', ' ')}{where}: {message}{to_do}"
+
+
+def _flow(
+    data: ReportData, pages: list[Figure], top: float, blocks, subtitle: str, bottom=FLOW_BOTTOM
+) -> float:
+    """Draw ``blocks`` (headings and wrapped paragraphs) from ``top`` on the last of ``pages``
+    down to ``bottom`` (figure height; FLOW_BOTTOM on the pages it adds as they fill); returns
+    the height below the last block."""
+    size, fig = 7.2, pages[-1]
+    line = size * 1.4 / (A4[1] * 72)  # one line of text (matplotlib's spacing 1.2 of the font)
+    gap = 0.006
+    for k, (kind, text) in enumerate(blocks):
+        lines = (textwrap.wrap(text, FLOW_CHARS) or [""]) if kind == "p" else [text]
+        need = len(lines) * line + gap
+        if kind == "h":  # a heading keeps its first paragraph with it
+            follow = blocks[k + 1][1] if k + 1 < len(blocks) else ""
+            need = 0.027 + (len(textwrap.wrap(follow, FLOW_CHARS)) or 1) * line + gap
+        if top - need < bottom:
+            bottom = FLOW_BOTTOM
+            fig = _page()
+            _header(fig, data, f"{subtitle} (continued)")
+            pages.append(fig)
+            top = 0.91
+        if kind == "h":
+            top = _heading(fig, top - 0.005, text)
+        else:
+            drawn = fig.text(0.05, top, "\n".join(lines), fontsize=size, va="top")
+            top -= _height(fig, drawn) + gap
+    return top
+
+
+NOTE_CHARS = 70
+"""A note longer than this is shortened in the station table and given in full below it."""
 
 
 def _clip(text: str, width: int) -> str:

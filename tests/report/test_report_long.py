@@ -50,3 +50,27 @@ def test_a_short_visit_lists_every_station_in_its_row():
     # One text block per column: the rows of every column line up (same count, same order).
     columns = [t.get_text().split("\n") for t in pages[0].axes[0].texts[1::2]]
     assert len({len(c) for c in columns}) == 1
+
+
+def test_every_finding_and_long_note_is_printed_whole_on_as_many_pages_as_it_takes():
+    """A visit's findings are the crew's record of what was checked: none is cut short and
+    none is left out, however many there are (they flow on to further pages)."""
+    visit, stations = _visit(60)
+    note = "undercut bank with roots; the plumb met a submerged log first, read twice " * 2
+    stations[5]["note"] = note.strip()
+    findings = [
+        {"severity": "warn", "kind": "spike", "station": float(i),
+         "message": f"reading {i} stands out from its neighbours by {i}.5 cm, more than the "
+                    "spread of the rest of the section would explain on this bed",
+         "suggestion": f"read station {i} again, and its neighbours if the bed is soft"}
+        for i in range(120)
+    ]  # fmt: skip
+    data = prepare_report(visit, stations, ReportOptions(), findings=findings)
+    pages = report_pages._station_pages(data)
+    text = " ".join(" ".join(_texts(p).split()) for p in pages)
+    assert len(pages) > 2
+    for f in findings:
+        assert " ".join(f["message"].split()) in text
+        assert f["suggestion"] in text
+    assert note.strip() in text  # the station table shortens it; it is given whole below
+    assert "…" not in text.replace(report_pages._clip(note, report_pages.NOTE_CHARS), "")
