@@ -474,26 +474,50 @@ def _flow(
     down to ``bottom`` (figure height; FLOW_BOTTOM on the pages it adds as they fill); returns
     the height below the last block."""
     size, fig = 7.2, pages[-1]
-    line = size * 1.4 / (A4[1] * 72)  # one line of text (matplotlib's spacing 1.2 of the font)
-    gap = 0.006
+    line = _line_height(fig, size)
+    lines_here: list[str] = []  # the paragraphs on this page since the last heading: one text
+    block_top = top
+
+    def draw_block() -> None:
+        if lines_here:
+            fig.text(0.05, block_top, "\n".join(lines_here), fontsize=size, va="top")
+            lines_here.clear()
+
     for k, (kind, text) in enumerate(blocks):
         lines = (textwrap.wrap(text, FLOW_CHARS) or [""]) if kind == "p" else [text]
-        need = len(lines) * line + gap
+        need = (len(lines) + 1) * line
         if kind == "h":  # a heading keeps its first paragraph with it
             follow = blocks[k + 1][1] if k + 1 < len(blocks) else ""
-            need = 0.027 + (len(textwrap.wrap(follow, FLOW_CHARS)) or 1) * line + gap
+            need = 0.027 + (len(textwrap.wrap(follow, FLOW_CHARS)) or 1) * line
         if top - need < bottom:
+            draw_block()
             bottom = FLOW_BOTTOM
             fig = _page()
             _header(fig, data, f"{subtitle} (continued)")
             pages.append(fig)
             top = 0.91
         if kind == "h":
+            draw_block()
             top = _heading(fig, top - 0.005, text)
+            continue
+        if lines_here:
+            lines_here.append("")  # a blank line between paragraphs
         else:
-            drawn = fig.text(0.05, top, "\n".join(lines), fontsize=size, va="top")
-            top -= _height(fig, drawn) + gap
-    return top
+            block_top = top
+        lines_here.extend(lines)
+        top = block_top - len(lines_here) * line
+    draw_block()
+    return top - 0.006
+
+
+def _line_height(fig: Figure, size: float) -> float:
+    """The height one more line adds to a text of ``size`` points (figure fraction), measured."""
+    one = fig.text(0, 0, "Xg", fontsize=size)
+    eleven = fig.text(0, 0, "\n".join(["Xg"] * 11), fontsize=size)
+    height = (_height(fig, eleven) - _height(fig, one)) / 10
+    one.remove()
+    eleven.remove()
+    return height
 
 
 NOTE_CHARS = 70
