@@ -13,7 +13,8 @@ number fields alike, scrolling the next one into view.
 from __future__ import annotations
 
 from kivy.app import App
-from kivy.properties import ColorProperty, StringProperty
+from kivy.metrics import dp
+from kivy.properties import BooleanProperty, ColorProperty, NumericProperty, StringProperty
 from kivy.uix.screenmanager import Screen
 from kivy.uix.scrollview import ScrollView
 from kivy.uix.textinput import TextInput
@@ -154,9 +155,27 @@ class BaseScreen(Screen):
 
 
 class KeypadScreen(BaseScreen):
-    """A screen whose number fields are typed with the on-screen keypad (``ids.keypad``)."""
+    """A screen whose number fields are typed with the on-screen keypad (``ids.keypad``).
+
+    In landscape the keypad and its fields stand at the side, ``side_width`` wide; in portrait
+    (``portrait``: taller than wide) they go below.  ``SIDE`` is the side's share of the width
+    and its least and greatest width in dp.
+    """
 
     active_field = None
+    portrait = BooleanProperty(False)
+    side_width = NumericProperty(380)
+    SIDE = (0.38, 330, 480)
+
+    def __init__(self, **kwargs):
+        super().__init__(**kwargs)
+        self.fbind("size", self.follow_shape)
+
+    def follow_shape(self, *_args) -> None:
+        """Follow the window's shape: portrait or landscape, and the keypad side's width."""
+        share, least, most = self.SIDE
+        self.portrait = self.height > self.width
+        self.side_width = min(max(share * self.width, dp(least)), dp(most))
 
     def activate(self, field) -> None:
         """Make ``field`` the keypad's target and show it."""

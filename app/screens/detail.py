@@ -12,8 +12,7 @@ here replaces it.
 
 from __future__ import annotations
 
-from kivy.metrics import dp
-from kivy.properties import BooleanProperty, DictProperty, NumericProperty, StringProperty
+from kivy.properties import BooleanProperty, DictProperty, StringProperty
 from stakeline.app.screens.base import KeypadScreen
 from stakeline.app.service import ServiceError
 from stakeline.app.widgets.common import Caption, Chip, FigureRow
@@ -59,21 +58,12 @@ class DetailScreen(KeypadScreen):
     """The gauging's office figures (see :meth:`stakeline.app.service.gauging.office_gauging`),
     {} while they are worked out."""
     back_text = StringProperty("Home")
-    portrait = BooleanProperty(False)
-    side_width = NumericProperty(380)
+    SIDE = (0.36, 330, 460)
 
     _token = 0
     _again = False
     _inputs: dict = {}
     _items: list = []
-
-    def on_kv_post(self, _base_widget) -> None:
-        """Follow the window's shape."""
-        self.fbind("size", self._on_size)
-
-    def _on_size(self, *_args) -> None:
-        self.portrait = self.height > self.width
-        self.side_width = min(max(0.36 * self.width, dp(330)), dp(460))
 
     def on_back(self, *_args) -> None:
         """The Back button says where it goes."""

@@ -108,8 +108,7 @@ class ReadingsScreen(KeypadScreen):
     goto_tone = StringProperty("plain")
     enter_text = StringProperty("Save + next")
     note_text = StringProperty("Note")
-    portrait = BooleanProperty(False)
-    entry_width = NumericProperty(400)
+    SIDE = (0.44, 340, 520)
 
     _last_saved: float | None = None
 
@@ -124,12 +123,7 @@ class ReadingsScreen(KeypadScreen):
                      "flags", "message", "tone", "method"):  # fmt: skip
             self.fbind(name, self._show)
         self.ids.keypad.fbind("text", self._show)
-        self.fbind("size", self._on_size)
         self._show()
-
-    def _on_size(self, *_args) -> None:
-        self.portrait = self.height > self.width
-        self.entry_width = min(max(0.44 * self.width, dp(340)), dp(520))
 
     def _show(self, *_args) -> None:
         """Derive every shown text and colour from the screen's state."""

@@ -9,12 +9,9 @@ figures always open at the visit's recorded level.
 
 from __future__ import annotations
 
-from kivy.metrics import dp
 from kivy.properties import (
-    BooleanProperty,
     DictProperty,
     ListProperty,
-    NumericProperty,
     ObjectProperty,
     StringProperty,
 )
@@ -35,19 +32,10 @@ class SectionScreen(KeypadScreen):
     """(name, value) of every figure shown, in order."""
     error_text = StringProperty("")
     hint_text = StringProperty("")
-    portrait = BooleanProperty(False)
-    side_width = NumericProperty(400)
+    SIDE = (0.4, 340, 520)
 
     _section = None
     _profile = ((), ())
-
-    def on_kv_post(self, _base_widget) -> None:
-        """Follow the window's shape."""
-        self.fbind("size", self._on_size)
-
-    def _on_size(self, *_args) -> None:
-        self.portrait = self.height > self.width
-        self.side_width = min(max(0.4 * self.width, dp(340)), dp(520))
 
     def refresh(self) -> None:
         """Load the ground and the recorded water level."""

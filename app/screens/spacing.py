@@ -9,7 +9,7 @@ shows the plan being edited and asks the service for every change.
 from __future__ import annotations
 
 from kivy.metrics import dp
-from kivy.properties import BooleanProperty, ListProperty, NumericProperty, StringProperty
+from kivy.properties import ListProperty, NumericProperty, StringProperty
 from stakeline.app.screens.base import KeypadScreen, field_number, show_number
 from stakeline.app.service import count_words
 from stakeline.app.widgets.common import Chip
@@ -26,16 +26,7 @@ class SpacingScreen(KeypadScreen):
     saved_plan = ListProperty([])
     previous_plan = ListProperty([])
     previous_text = StringProperty("")
-    portrait = BooleanProperty(False)
-    side_width = NumericProperty(380)
-
-    def on_kv_post(self, _base_widget) -> None:
-        """Follow the window's shape."""
-        self.fbind("size", self._on_size)
-
-    def _on_size(self, *_args) -> None:
-        self.portrait = self.height > self.width
-        self.side_width = min(max(0.38 * self.width, dp(330)), dp(480))
+    SIDE = (0.38, 330, 480)
 
     def refresh(self) -> None:
         """Load the saved plan, the stake distance and the previous visit's plan."""

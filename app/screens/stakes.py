@@ -8,7 +8,7 @@ last visit's values show as hints in the empty fields.
 from __future__ import annotations
 
 from kivy.metrics import dp
-from kivy.properties import BooleanProperty, NumericProperty, StringProperty
+from kivy.properties import NumericProperty, StringProperty
 from stakeline.app.screens.base import KeypadScreen, field_number, show_number
 from stakeline.app.service import ASSUMED_DATUM
 
@@ -32,17 +32,12 @@ class StakesScreen(KeypadScreen):
     origin = StringProperty("left")
     method = StringProperty("line")
     section_title = StringProperty("")
-    portrait = BooleanProperty(False)
-    side_width = NumericProperty(380)
+    SIDE = (0.38, 330, 480)
     form_cols = NumericProperty(2)
 
-    def on_kv_post(self, _base_widget) -> None:
-        """Follow the window's shape."""
-        self.fbind("size", self._on_size)
-
-    def _on_size(self, *_args) -> None:
-        self.portrait = self.height > self.width
-        self.side_width = min(max(0.38 * self.width, dp(330)), dp(480))
+    def follow_shape(self, *_args) -> None:
+        """The keypad side as on every keypad screen; the form in two columns where it fits."""
+        super().follow_shape()
         form_width = self.width if self.portrait else self.width - self.side_width
         self.form_cols = 2 if form_width >= dp(470) else 1
 

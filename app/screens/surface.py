@@ -9,8 +9,7 @@ last point back.  The office calibrates Manning's n with this slope.
 
 from __future__ import annotations
 
-from kivy.metrics import dp
-from kivy.properties import BooleanProperty, NumericProperty, StringProperty
+from kivy.properties import NumericProperty, StringProperty
 from stakeline.app.screens import velocity_text as words
 from stakeline.app.screens.base import KeypadScreen
 from stakeline.app.widgets.common import FigureRow
@@ -32,16 +31,7 @@ class SurfaceScreen(KeypadScreen):
     points_text = StringProperty("")
     point_count = NumericProperty(0)
     enter_text = StringProperty("Next field")
-    portrait = BooleanProperty(False)
-    side_width = NumericProperty(380)
-
-    def on_kv_post(self, _base_widget) -> None:
-        """Follow the window's shape."""
-        self.fbind("size", self._on_size)
-
-    def _on_size(self, *_args) -> None:
-        self.portrait = self.height > self.width
-        self.side_width = min(max(0.38 * self.width, dp(330)), dp(460))
+    SIDE = (0.38, 330, 460)
 
     def refresh(self) -> None:
         """Show the points saved and the slope; the keypad types the distance."""

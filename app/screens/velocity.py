@@ -14,7 +14,6 @@ The water-surface slope has its own small screen (:mod:`stakeline.app.screens.su
 
 from __future__ import annotations
 
-from kivy.metrics import dp
 from kivy.properties import (
     BooleanProperty,
     ColorProperty,
@@ -63,8 +62,7 @@ class VelocityScreen(KeypadScreen):
     enter_text = StringProperty("Save + next")
     note_text = StringProperty("Note")
     point_count = NumericProperty(0)
-    portrait = BooleanProperty(False)
-    entry_width = NumericProperty(400)
+    SIDE = (0.42, 340, 500)
 
     _fields: dict = {}
     _fields_key = None
@@ -78,14 +76,9 @@ class VelocityScreen(KeypadScreen):
             chip.bind(on_release=lambda c: self.choose_method(c.method))
             self.ids.methods.add_widget(chip)
         self._fields, self._methods, self._notes = {}, {}, {}
-        self.fbind("size", self._on_size)
         for name in ("message", "tone"):
             self.fbind(name, self._show_banner)
         self._show_banner()
-
-    def _on_size(self, *_args) -> None:
-        self.portrait = self.height > self.width
-        self.entry_width = min(max(0.42 * self.width, dp(340)), dp(500))
 
     def _show_banner(self, *_args) -> None:
         if self.message:
