@@ -4,7 +4,7 @@ stations (every station is in the stations CSV), drawn a few artists per page.""
 from __future__ import annotations
 
 import numpy as np
-from stakeline.report import ReportOptions, prepare_report
+from stakeline.report import ReportOptions, prepare_report, station_pages
 from stakeline.report import pages as report_pages
 
 
@@ -30,9 +30,9 @@ def _visit(n: int):
 
 
 def test_a_long_visit_lists_only_its_marked_stations_and_says_so():
-    visit, stations = _visit(report_pages.STATIONS_LISTED + 500)
+    visit, stations = _visit(station_pages.STATIONS_LISTED + 500)
     data = prepare_report(visit, stations, ReportOptions(), findings=[])
-    pages = report_pages._station_pages(data)
+    pages = station_pages.station_pages(data)
     assert len(pages) == 1  # three marked stations and the findings fit on one page
     text = _texts(pages[0])
     assert f"{len(stations):,} stations" in text and "stations CSV" in text
@@ -43,7 +43,7 @@ def test_a_long_visit_lists_only_its_marked_stations_and_says_so():
 def test_a_short_visit_lists_every_station_in_its_row():
     visit, stations = _visit(60)
     data = prepare_report(visit, stations, ReportOptions(), findings=[])
-    pages = report_pages._station_pages(data)
+    pages = station_pages.station_pages(data)
     text = "\n".join(_texts(p) for p in pages)
     assert "stations CSV" not in text
     assert all(f"{s['station']:.3f}" in text for s in stations)
@@ -66,7 +66,7 @@ def test_every_finding_and_long_note_is_printed_whole_on_as_many_pages_as_it_tak
         for i in range(120)
     ]  # fmt: skip
     data = prepare_report(visit, stations, ReportOptions(), findings=findings)
-    pages = report_pages._station_pages(data)
+    pages = station_pages.station_pages(data)
     text = " ".join(" ".join(_texts(p).split()) for p in pages)
     assert len(pages) > 2
     for f in findings:
