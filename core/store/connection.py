@@ -26,7 +26,7 @@ from urllib.parse import quote
 
 import sqlite_utils
 from stakeline.store.faults import StoreFaultError, StoreLockedError, is_locked, store_fault
-from stakeline.store.schema import LATEST, migrate, schema_version
+from stakeline.store.schema import LATEST, migrate
 from stakeline.store.values import StoreError, canonical_json, new_uuid, now, text
 
 QUIET_WAIT = 2.0
@@ -154,8 +154,13 @@ class StoreConnection:
         if self.path is not None and not self.readonly:
             self._retry_while_locked(self._wal_mode)
         conn.execute("PRAGMA synchronous = FULL")
-        version = schema_version(conn)
-        if version == 0 and conn.execute("SELECT count(*) FROM sqlite_master").fetchone()[0]:
+        # One statement, one snapshot: another process creating the file may commit its first
+        # step between two separate reads (version 0, then its tables).
+        version, objects = conn.execute(
+            "SELECT (SELECT user_version FROM pragma_user_version),"
+            " (SELECT count(*) FROM sqlite_master)"
+        ).fetchone()
+        if version == 0 and objects:
             raise StoreError(f"{self.path} is an SQLite file but not a Stakeline store")
         if version > LATEST:
             raise StoreError(
