@@ -13,7 +13,6 @@ from datetime import datetime
 from kivy.clock import Clock
 from kivy.metrics import dp
 from kivy.properties import (
-    BooleanProperty,
     ColorProperty,
     DictProperty,
     ListProperty,
@@ -21,12 +20,10 @@ from kivy.properties import (
     ObjectProperty,
     StringProperty,
 )
-from kivy.uix.behaviors import ButtonBehavior
-from kivy.uix.boxlayout import BoxLayout
 from stakeline.app import theme
 from stakeline.app.screens.base import KeypadScreen
 from stakeline.app.service import FEATURE_CODES
-from stakeline.app.widgets.common import Chip
+from stakeline.app.widgets.common import Chip, StationRow
 from stakeline.app.widgets.keypad import key_action
 from stakeline.app.widgets.popups import HistoryPopup, NotePopup
 
@@ -40,38 +37,14 @@ HISTORY_ACTIONS = {"add": "entered", "correct": "corrected", "remove": "removed"
 KEY_UP, KEY_DOWN = 273, 274
 
 
-class ReadingRow(ButtonBehavior, BoxLayout):
+class ReadingRow(StationRow):
     """One reading in the list; tap it to edit that station."""
 
-    station = NumericProperty(0.0)
-    station_text = StringProperty("")
     reading_text = StringProperty("")
     elevation_text = StringProperty("")
     code_text = StringProperty("")
-    state_text = StringProperty("")
     tone = StringProperty("saved")
-    current = BooleanProperty(False)
-    screen = ObjectProperty(None, allownone=True)
-    fill = ColorProperty(theme.PANEL)
     state_colour = ColorProperty(theme.ACCEPT)
-
-    def on_kv_post(self, _base_widget) -> None:
-        """Colours follow the row's state."""
-        for name in ("current", "state", "tone"):
-            self.fbind(name, self._paint)
-        self._paint()
-
-    def _paint(self, *_args) -> None:
-        if self.current:
-            self.fill = theme.ACTIVE_FIELD
-        else:
-            self.fill = theme.PANEL if self.state == "normal" else theme.TOGGLE_ON
-        self.state_colour = theme.STATE_COLOURS[self.tone]
-
-    def on_release(self):
-        """Go to this station."""
-        if self.screen is not None:
-            self.screen.go_to(self.station)
 
 
 class CodeChip(Chip):

@@ -65,6 +65,7 @@ class VelocityScreen(KeypadScreen):
     SIDE = (0.42, 340, 500)
 
     _fields: dict = {}
+    _profile: tuple = ((), ())
     _fields_key = None
     _wanted = None
 
@@ -95,7 +96,8 @@ class VelocityScreen(KeypadScreen):
         self.ids.view.flip = visit["origin"] == "right"
         self.ids.view.strip = self.service.water_strip
         self.ids.view.water_level = self.service.water_level(self.visit)
-        self.ids.view.set_section(*self.service.profile(self.visit), refit=True)
+        self._profile = self.service.profile(self.visit)  # the depths are not read here
+        self.ids.view.set_section(*self._profile, refit=True)
         self._methods, self._notes = {}, {}
         self._clear()
         self.use_meter(self.service.chosen_meter(self.visit), remember=False)
@@ -215,7 +217,7 @@ class VelocityScreen(KeypadScreen):
                                 self._points_of(self.method)))  # fmt: skip
         self._show_rows()
         self.on_marks()
-        self.ids.view.set_section(*self.service.profile(self.visit), current=self.station)
+        self.ids.view.set_section(*self._profile, current=self.station)
         self._activate_next_point()
 
     def _points_of(self, method: str) -> list[str]:

@@ -3,57 +3,27 @@ chip."""
 
 from __future__ import annotations
 
-from kivy.properties import (
-    BooleanProperty,
-    ColorProperty,
-    NumericProperty,
-    ObjectProperty,
-    StringProperty,
-)
-from kivy.uix.behaviors import ButtonBehavior
-from kivy.uix.boxlayout import BoxLayout
+from kivy.properties import ColorProperty, StringProperty
 from stakeline.app import theme
-from stakeline.app.widgets.common import Chip
+from stakeline.app.widgets.common import Chip, StationRow
 
 
-class VerticalRow(ButtonBehavior, BoxLayout):
+class VerticalRow(StationRow):
     """One wet vertical in the list; tap it to read that station."""
 
-    station = NumericProperty(0.0)
-    station_text = StringProperty("")
     depth_text = StringProperty("")
     velocity_text = StringProperty("")
     discharge_text = StringProperty("")
     share_text = StringProperty("")
     share_tone = StringProperty("none")
-    state_text = StringProperty("")
-    tone = StringProperty("none")
-    current = BooleanProperty(False)
-    screen = ObjectProperty(None, allownone=True)
-    fill = ColorProperty(theme.PANEL)
-    state_colour = ColorProperty(theme.INK_SOFT)
     share_colour = ColorProperty(theme.INK)
+    PAINTED_BY = (*StationRow.PAINTED_BY, "share_tone")
 
-    def on_kv_post(self, _base_widget) -> None:
-        """Colours follow the row's state."""
-        for name in ("current", "state", "tone", "share_tone"):
-            self.fbind(name, self._paint)
-        self._paint()
-
-    def _paint(self, *_args) -> None:
-        if self.current:
-            self.fill = theme.ACTIVE_FIELD
-        else:
-            self.fill = theme.PANEL if self.state == "normal" else theme.TOGGLE_ON
-        self.state_colour = theme.STATE_COLOURS[self.tone]
-        self.share_colour = theme.STATE_COLOURS[self.share_tone]
-        if self.share_tone == "none":
-            self.share_colour = theme.INK
-
-    def on_release(self):
-        """Read this station."""
-        if self.screen is not None:
-            self.screen.go_to(self.station)
+    def paint(self, *_args) -> None:
+        """The row's colours, and the share's: marked when the panel carries too much."""
+        super().paint()
+        tone = self.share_tone
+        self.share_colour = theme.INK if tone == "none" else theme.STATE_COLOURS[tone]
 
 
 class MethodChip(Chip):

@@ -209,6 +209,42 @@ class FigureRow(BoxLayout):
         self.value_width = text_width(self.value, SIZES.value, bold=True)
 
 
+class StationRow(ButtonBehavior, BoxLayout):
+    """A station in a step's list; tap it to go there (``screen.go_to(station)``).  ``current``
+    marks the station being worked on; ``tone`` colours the state word
+    (:data:`stakeline.app.theme.STATE_COLOURS`); ``fill`` follows both and the press."""
+
+    station = NumericProperty(0.0)
+    station_text = StringProperty("")
+    state_text = StringProperty("")
+    tone = StringProperty("none")
+    current = BooleanProperty(False)
+    screen = ObjectProperty(None, allownone=True)
+    fill = ColorProperty(theme.PANEL)
+    state_colour = ColorProperty(theme.INK_SOFT)
+    PAINTED_BY = ("current", "state", "tone")
+    """The properties the colours follow."""
+
+    def on_kv_post(self, _base_widget) -> None:
+        """Colours follow the row's state."""
+        for name in self.PAINTED_BY:
+            self.fbind(name, self.paint)
+        self.paint()
+
+    def paint(self, *_args) -> None:
+        """Set the colours from the row's state."""
+        if self.current:
+            self.fill = theme.ACTIVE_FIELD
+        else:
+            self.fill = theme.PANEL if self.state == "normal" else theme.TOGGLE_ON
+        self.state_colour = theme.STATE_COLOURS[self.tone]
+
+    def on_release(self):
+        """Go to this station."""
+        if self.screen is not None:
+            self.screen.go_to(self.station)
+
+
 class Panel(BoxLayout):
     """A padded group of widgets on a slightly darker background."""
 

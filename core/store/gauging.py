@@ -34,7 +34,7 @@ from stakeline.store.columns import (
     check_water_surface,
 )
 from stakeline.store.connection import StoreConnection
-from stakeline.store.values import StoreError, canonical_json
+from stakeline.store.values import StoreError, canonical_json, version_dict
 from stakeline.store.versions import VersionLog
 
 VELOCITY_FIELDS = ("station", "method", "points", "meter_uuid", "angle", "depth", "note")
@@ -48,41 +48,13 @@ SAME_STATION = 1e-9
 
 
 def _vertical_dict(row: dict, first: dict) -> dict:
-    return {
-        "uuid": row["vertical_uuid"],
-        "version": row["uuid"],
-        "visit_uuid": row["visit_uuid"],
-        "action": row["action"],
-        "station": row["station"],
-        "method": row["method"],
-        "points": json.loads(row["points"]) if row["points"] else {},
-        "meter_uuid": row["meter_uuid"],
-        "angle": row["angle"],
-        "depth": row["depth"],
-        "note": row["note"],
-        "seq": row["seq"],
-        "removed": row["action"] == "remove",
-        "created": first["created"],
-        "modified": row["created"],
-        "device": row["device"],
-    }
+    out = version_dict(row, first, "vertical_uuid", VELOCITY_FIELDS)
+    out["points"] = json.loads(row["points"]) if row["points"] else {}
+    return out
 
 
 def _point_dict(row: dict, first: dict) -> dict:
-    return {
-        "uuid": row["point_uuid"],
-        "version": row["uuid"],
-        "visit_uuid": row["visit_uuid"],
-        "action": row["action"],
-        "distance": row["distance"],
-        "elevation": row["elevation"],
-        "note": row["note"],
-        "seq": row["seq"],
-        "removed": row["action"] == "remove",
-        "created": first["created"],
-        "modified": row["created"],
-        "device": row["device"],
-    }
+    return version_dict(row, first, "point_uuid", SURFACE_FIELDS)
 
 
 class Gauging:

@@ -17,6 +17,7 @@ from stakeline.store.values import (
     number,
     replay,
     text,
+    version_dict,
 )
 
 
@@ -38,21 +39,7 @@ class Stations:
     """
 
     def _version_dict(self, row: dict, first: dict, datum: dict | None) -> dict:
-        out = {
-            "uuid": row["station_uuid"],
-            "version": row["uuid"],
-            "visit_uuid": row["visit_uuid"],
-            "action": row["action"],
-            "station": row["station"],
-            "reading": row["reading"],
-            "code": row["code"],
-            "note": row["note"],
-            "seq": row["seq"],
-            "removed": row["action"] == "remove",
-            "created": first["created"],
-            "modified": row["created"],
-            "device": row["device"],
-        }
+        out = version_dict(row, first, "station_uuid", STATION_FIELDS)
         if datum is not None:
             placed = _placed(row)
             out["elevation"] = (

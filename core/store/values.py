@@ -148,15 +148,38 @@ def elevations(datum: dict, stations: list[float], readings: list[float]) -> lis
     return plain_list(Datum.from_visit(datum).elevations(stations, readings))
 
 
-def replay(versions: list[dict]) -> tuple[dict[str, dict], dict[str, dict], set[str]]:
-    """(current version by station, first version by station, undone version uuids)."""
+def replay(
+    versions: list[dict], identity: str = "station_uuid"
+) -> tuple[dict[str, dict], dict[str, dict], set[str]]:
+    """(current version by record, first version by record, undone version uuids) of
+    ``versions`` (oldest first) whose record identity is the column ``identity`` (stations by
+    default; the gauging's version logs name theirs)."""
     undone = {v["undoes"] for v in versions if v["action"] == "undo"}
     first: dict[str, dict] = {}
     current: dict[str, dict] = {}
     for v in versions:
         if v["action"] == "undo":
             continue
-        first.setdefault(v["station_uuid"], v)
+        first.setdefault(v[identity], v)
         if v["uuid"] not in undone:
-            current[v["station_uuid"]] = v
+            current[v[identity]] = v
     return current, first, undone
+
+
+def version_dict(row: dict, first: dict, identity: str, fields) -> dict:
+    """One version of a crew-entered record as the store hands it out: ``uuid`` (the record,
+    from the column ``identity``), ``version``, ``visit_uuid``, ``action``, the ``fields``,
+    ``seq``, ``removed``, ``created`` (the record's first version) and ``modified`` (this
+    version), ``device``."""
+    return {
+        "uuid": row[identity],
+        "version": row["uuid"],
+        "visit_uuid": row["visit_uuid"],
+        "action": row["action"],
+        **{name: row[name] for name in fields},
+        "seq": row["seq"],
+        "removed": row["action"] == "remove",
+        "created": first["created"],
+        "modified": row["created"],
+        "device": row["device"],
+    }

@@ -5,29 +5,14 @@ water-surface point) is kept as rows of one table: each change is a new row with
 ``uuid``, the record's identity (``identity`` column), the ``action`` (``add``, ``correct``,
 ``remove`` or ``undo``), the record's values and ``seq`` (the record's entry number in its
 visit).  Nothing is overwritten; the current record is its latest version not undone, exactly as
-:func:`stakeline.store.values.replay` does for stations.  Used only inside
+:func:`stakeline.store.values.replay` gives it.  Used only inside
 :mod:`stakeline.store`; every change runs inside the caller's transaction.
 """
 
 from __future__ import annotations
 
 from stakeline.store.connection import StoreConnection
-from stakeline.store.values import StoreError, new_uuid, now
-
-
-def replay_versions(versions: list[dict], identity: str):
-    """(current version by record, first version by record, undone version uuids) of
-    ``versions`` (oldest first) whose record identity is the column ``identity``."""
-    undone = {v["undoes"] for v in versions if v["action"] == "undo"}
-    first: dict[str, dict] = {}
-    current: dict[str, dict] = {}
-    for v in versions:
-        if v["action"] == "undo":
-            continue
-        first.setdefault(v[identity], v)
-        if v["uuid"] not in undone:
-            current[v[identity]] = v
-    return current, first, undone
+from stakeline.store.values import StoreError, new_uuid, now, replay
 
 
 class VersionLog:
@@ -49,7 +34,7 @@ class VersionLog:
 
     def current(self, visit_uuid: str) -> list[tuple[dict, dict]]:
         """(current version, first version) of each live record of the visit, by entry order."""
-        current, first, _ = replay_versions(self.rows(visit_uuid), self.identity)
+        current, first, _ = replay(self.rows(visit_uuid), self.identity)
         live = [v for v in current.values() if v["action"] != "remove"]
         live.sort(key=lambda v: v["seq"])
         return [(v, first[v[self.identity]]) for v in live]
@@ -75,7 +60,7 @@ class VersionLog:
         if found is None:
             raise StoreError(f"no {self.what} with id {record_uuid!r} in this store")
         versions = [v for v in self.rows(found["visit_uuid"]) if v[self.identity] == record_uuid]
-        current, first, _ = replay_versions(versions, self.identity)
+        current, first, _ = replay(versions, self.identity)
         if record_uuid not in current or current[record_uuid]["action"] == "remove":
             raise StoreError(f"that {self.what} was removed or undone; enter it again")
         return current[record_uuid], first[record_uuid]
@@ -112,7 +97,7 @@ class VersionLog:
         """Mark the visit's latest change not yet undone as undone (call inside a transaction);
         returns (the undone version, its record's first version), or None."""
         versions = self.rows(visit_uuid)
-        _, first, undone = replay_versions(versions, self.identity)
+        _, first, undone = replay(versions, self.identity)
         target = next(
             (v for v in reversed(versions) if v["action"] != "undo" and v["uuid"] not in undone),
             None,
